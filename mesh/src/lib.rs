@@ -1,0 +1,13 @@
+//! Geometry description, tetrahedral meshing and mesh I/O for resonant cavities.
+//!
+//! This crate knows nothing of Maxwell's equations: it turns a geometry file into a
+//! conforming tetrahedral mesh whose elements carry region ids (air or which load) and
+//! whose boundary triangles carry tags (metal wall or which feed port).
+
+pub mod geometry;
+pub mod material;
+pub mod tet_mesh;
+
+pub use geometry::Geometry;
+pub use material::Material;
+pub use tet_mesh::{BoundaryTag, RegionInfo, TetMesh};

@@ -1,0 +1,1 @@
+//! Validation suite: see tests/.
