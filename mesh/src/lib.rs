@@ -4,9 +4,14 @@
 //! conforming tetrahedral mesh whose elements carry region ids (air or which load) and
 //! whose boundary triangles carry tags (metal wall or which feed port).
 
+pub mod error;
 pub mod geometry;
+pub mod gmsh;
 pub mod material;
+pub mod mesher;
+pub mod quality;
 pub mod tet_mesh;
+pub mod vtk;
 
 pub use geometry::Geometry;
 pub use material::Material;

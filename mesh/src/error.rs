@@ -1,0 +1,1 @@
+//! Geometry-file errors (filled in by the geometry work).

@@ -1,0 +1,1 @@
+//! Gmsh MSH 4.1 import (filled in by the I/O work).

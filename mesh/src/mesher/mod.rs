@@ -1,0 +1,1 @@
+//! Cavity mesher (filled in by the mesher work).

@@ -1,0 +1,1 @@
+//! Element quality figures (filled in by the mesher work).

@@ -1,0 +1,1 @@
+//! VTK XML UnstructuredGrid writer (filled in by the I/O work).
