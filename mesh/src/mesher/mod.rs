@@ -1,1 +1,65 @@
-//! Cavity mesher (filled in by the mesher work).
+//! Cavity mesher: a geometry (box or cylinder cavity, box and vertical-cylinder loads,
+//! wall ports) to a conforming, tagged tetrahedral mesh.
+//!
+//! Design: every shape the geometry file can describe is a vertical prism (a footprint
+//! times a z-range), so the mesh is a 2-D constrained Delaunay mesh of the cross-section
+//! ([`planar`]) extruded in z-layers ([`extrude`]). All load footprints and port outlines
+//! are edges of the 2-D mesh ([`outline`]) and all load tops/bottoms and port z-edges are
+//! layer planes, so material interfaces and port rectangles are unions of element faces
+//! by construction, with no 3-D geometric predicates to go wrong. Sizes follow the local
+//! wavelength and are graded smoothly away from fine loads ([`sizing`]).
+//!
+//! The price: the cross-section is as fine everywhere above and below a load as in the
+//! load, and layers as thin across the whole cavity as in the finest load at that
+//! height, giving flat or tall prisms in the air there. Grading limits that to a shell
+//! around each load; [`crate::quality`] reports the resulting angles.
+
+mod extrude;
+mod outline;
+mod planar;
+mod sizing;
+
+pub use extrude::MAX_TETS;
+pub use planar::MAX_2D_POINTS;
+pub use sizing::{element_sizes, RegionSize, C0_MM_PER_S, GRADING};
+
+use crate::geometry::Geometry;
+use crate::tet_mesh::TetMesh;
+
+/// Why the built-in mesher could not mesh a geometry.
+#[derive(Debug, thiserror::Error)]
+pub enum MesherError {
+    /// A load without a shape (only imported meshes may have those).
+    #[error("load '{load}' has no shape (box or cylinder); the built-in mesher needs one for every load")]
+    MissingLoadShape { load: String },
+    /// A mesh setting the mesher cannot use.
+    #[error("mesh setting: {0}")]
+    Settings(String),
+    /// A load or port does not lie inside the cavity's cross-section.
+    #[error("{what} does not lie inside the cavity's cross-section")]
+    Outside { what: String },
+    /// The mesh would be larger than the mesher allows.
+    #[error(
+        "the mesh would exceed {limit} {what}; raise mesh.max_size or lower mesh.per_wavelength"
+    )]
+    TooLarge { what: &'static str, limit: usize },
+    /// The 2-D triangulation failed (a numerical failure inside the triangulator).
+    #[error("triangulating the cavity cross-section failed: {0}")]
+    Triangulation(String),
+}
+
+/// Meshes a geometry with the built-in mesher (`geom.mesh.import` is not consulted).
+///
+/// Returns tetrahedra in metres, each tagged with its region (0 = air, i + 1 = load i),
+/// and boundary triangles tagged `Wall` or `Port(i)`.
+pub fn mesh_geometry(geom: &Geometry) -> Result<TetMesh, MesherError> {
+    let sizes = element_sizes(geom)?;
+    let field = sizing::SizeField::new(geom, &sizes)?;
+    let outline = outline::Outline::build(geom, &field)?;
+    let z = extrude::layer_heights(geom, &field);
+    // A cross-section with N points has about 2N triangles, giving 6N tets per layer:
+    // stop placing points as soon as the tet limit is sure to be exceeded.
+    let point_limit = (MAX_TETS / (6 * (z.len() - 1).max(1))).min(MAX_2D_POINTS);
+    let planar = planar::Planar::build(&outline, &field, point_limit)?;
+    extrude::extrude(geom, &field, &outline, &planar, &z)
+}
