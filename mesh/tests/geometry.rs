@@ -1,0 +1,808 @@
+//! Geometry-file parsing and validation: every example parses, defaults apply, and each
+//! kind of bad input is rejected with a message that names the file, the line, the
+//! load/port and the offending value.
+
+use antinode_mesh::error::GeometryError;
+use antinode_mesh::geometry::{CavityShape, LoadShape, PortWall, WallMetal};
+use antinode_mesh::material::Dielectric;
+use antinode_mesh::Geometry;
+use std::path::{Path, PathBuf};
+
+const FILE: &str = "case.toml";
+
+/// A valid box-cavity file; cases replace or append pieces of it.
+const BASE: &str = r#"title = "test"
+[cavity]
+shape = "box"
+size = [300.0, 300.0, 200.0]
+walls = "copper"
+"#;
+
+const CYL: &str = r#"title = "test"
+[cavity]
+shape = "cylinder"
+radius = 150.0
+height = 200.0
+walls = "pec"
+"#;
+
+fn parse(text: &str) -> Result<Geometry, GeometryError> {
+    Geometry::from_toml_str(text, Some(Path::new(FILE)))
+}
+
+/// 1-based line of the first line containing `needle`.
+fn line_of(text: &str, needle: &str) -> usize {
+    text.lines()
+        .position(|l| l.contains(needle))
+        .map(|i| i + 1)
+        .unwrap_or_else(|| panic!("test text has no line with {needle:?}"))
+}
+
+/// Asserts `text` is rejected, the message names the file, `line`, and every needle.
+fn rejects(text: &str, line: usize, needles: &[&str]) -> GeometryError {
+    let err = match parse(text) {
+        Ok(_) => panic!("accepted bad input:\n{text}"),
+        Err(e) => e,
+    };
+    let msg = err.to_string();
+    assert!(msg.contains(FILE), "no file name in: {msg}");
+    let pat = format!("line {line}");
+    let has_line = msg.match_indices(&pat).any(|(i, _)| {
+        !msg[i + pat.len()..]
+            .chars()
+            .next()
+            .is_some_and(|c| c.is_ascii_digit())
+    });
+    assert!(has_line, "expected line {line} in: {msg}");
+    assert_eq!(err.line(), Some(line), "{msg}");
+    for n in needles {
+        assert!(msg.contains(n), "expected {n:?} in: {msg}");
+    }
+    err
+}
+
+fn with_load(base: &str, load: &str) -> String {
+    format!("{base}[[load]]\n{load}\n")
+}
+
+fn geometries_dir() -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("../geometries")
+}
+
+// ----- examples and defaults -------------------------------------------------------------
+
+#[test]
+fn every_example_parses() {
+    let mut n = 0;
+    let dir = std::fs::read_dir(geometries_dir()).expect("geometries/ exists");
+    for entry in dir {
+        let path = entry.expect("dir entry").path();
+        if path.extension().is_some_and(|e| e == "toml") {
+            let g = Geometry::from_file(&path)
+                .unwrap_or_else(|e| panic!("{} does not parse: {e}", path.display()));
+            assert!(
+                g.title.contains("Invented demo scenario"),
+                "{}: title must say it is an invented demo scenario",
+                path.display()
+            );
+            n += 1;
+        }
+    }
+    assert!(n >= 4, "expected at least 4 example files, found {n}");
+}
+
+#[test]
+fn bowl_on_plate_contents() {
+    let g = Geometry::from_file(geometries_dir().join("bowl_on_plate.toml")).expect("parses");
+    assert_eq!(g.loads.len(), 2);
+    let water = g.load("water").expect("water load");
+    assert_eq!(
+        water.material.dielectric,
+        Dielectric::WaterDebye {
+            temperature_c: 20.0
+        }
+    );
+    let feed = g.port("feed").expect("feed port");
+    // WR-340: 86.36 x 43.18 mm (EIA standard waveguide dimensions, design.md §5).
+    assert_eq!((feed.width, feed.height), (86.36, 43.18));
+    assert_eq!(
+        feed.wall,
+        PortWall::BoxWall {
+            axis: 0,
+            positive: true
+        }
+    );
+    assert_eq!(g.solve.band, Some([2.40, 2.50]));
+}
+
+#[test]
+fn defaults_apply() {
+    let text = format!(
+        "{BASE}[[port]]\nwall = \"+x\"\ncenter = [100.0, 100.0]\nwidth = 80\nheight = 40\n\
+         [[port]]\nwall = \"-y\"\ncenter = [100.0, 100.0]\nwidth = 80\nheight = 40\n"
+    );
+    let g = parse(&text).expect("valid");
+    assert_eq!(g.mesh.order, 2);
+    assert_eq!(g.mesh.per_wavelength, 6.0);
+    assert_eq!(g.mesh.max_size, 20.0);
+    assert_eq!(g.solve.target, 2.45);
+    assert_eq!(g.solve.count, Some(20));
+    assert_eq!(g.ports[0].name, "port1");
+    assert_eq!(g.ports[1].name, "port2");
+    assert!(!g.ports[0].rotated);
+    assert_eq!(g.source.as_deref(), Some(Path::new(FILE)));
+    assert_eq!(
+        g.cavity.walls,
+        WallMetal::Metal {
+            name: "copper".into(),
+            conductivity: 5.8e7
+        }
+    );
+}
+
+#[test]
+fn band_without_count_leaves_count_unset() {
+    let g = parse(&format!("{BASE}[solve]\nband = [2.4, 2.5]\n")).expect("valid");
+    assert_eq!(g.solve.count, None);
+}
+
+#[test]
+fn custom_materials_and_walls() {
+    let text = format!(
+        "{BASE}[[load]]\nname = \"a\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [10, 10, 10]\n\
+         material = {{ permittivity = 4.0, loss_tangent = 0.01 }}\n\
+         [[load]]\nname = \"b\"\nshape = \"box\"\nmin = [20, 0, 0]\nmax = [30, 10, 10]\n\
+         material = {{ permittivity = 78, loss_factor = 10, permeability = 2 }}\n\
+         [[load]]\nname = \"c\"\nshape = \"box\"\nmin = [40, 0, 0]\nmax = [50, 10, 10]\n\
+         material = {{ permittivity = 3, conductivity = 0.5 }}\n"
+    )
+    .replace("walls = \"copper\"", "walls = { conductivity = 3.5e7 }");
+    let g = parse(&text).expect("valid");
+    assert_eq!(
+        g.cavity.walls,
+        WallMetal::Metal {
+            name: "custom".into(),
+            conductivity: 3.5e7
+        }
+    );
+    let (er, ei) = g.loads[0].material.permittivity(2.45e9);
+    assert_eq!(er, 4.0);
+    assert!((ei - 0.04).abs() < 1e-15);
+    assert_eq!(g.loads[1].material.permittivity(2.45e9), (78.0, 10.0));
+    assert_eq!(g.loads[1].material.permeability, 2.0);
+    // ε″ = σ / (ω ε0) (design.md §3).
+    let (_, ei) = g.loads[2].material.permittivity(2.45e9);
+    let expect = 0.5 / (2.0 * std::f64::consts::PI * 2.45e9 * 8.854_187_8128e-12);
+    assert!((ei - expect).abs() < 1e-12 * expect);
+}
+
+#[test]
+fn touching_loads_are_allowed() {
+    // A bowl standing on a plate shares the plate's top face; a box beside a box shares a face.
+    let text = format!(
+        "{BASE}[[load]]\nname = \"plate\"\nshape = \"cylinder\"\ncenter = [150, 150]\nradius = 100\n\
+         bottom = 10\nheight = 6\nmaterial = \"borosilicate glass\"\n\
+         [[load]]\nname = \"bowl\"\nshape = \"cylinder\"\ncenter = [150, 150]\nradius = 40\n\
+         bottom = 16\nheight = 30\nmaterial = \"water\"\n\
+         [[load]]\nname = \"b1\"\nshape = \"box\"\nmin = [0, 0, 100]\nmax = [10, 10, 110]\nmaterial = \"ptfe\"\n\
+         [[load]]\nname = \"b2\"\nshape = \"box\"\nmin = [10, 0, 100]\nmax = [20, 10, 110]\nmaterial = \"ptfe\"\n\
+         [[load]]\nname = \"c1\"\nshape = \"cylinder\"\ncenter = [40, 40]\nradius = 10\nbottom = 100\n\
+         height = 10\nmaterial = \"ptfe\"\n"
+    );
+    let g = parse(&text).expect("touching is allowed");
+    assert_eq!(g.loads.len(), 5);
+    assert_eq!(
+        g.loads[4].shape,
+        Some(LoadShape::Cylinder {
+            center: [40.0, 40.0],
+            radius: 10.0,
+            bottom: 100.0,
+            height: 10.0
+        })
+    );
+}
+
+#[test]
+fn import_lets_loads_omit_shape() {
+    let text = format!(
+        "{BASE}[[load]]\nname = \"meat\"\nmaterial = \"raw beef\"\n\
+         [[port]]\nname = \"feed\"\nwall = \"+x\"\ncenter = [150, 100]\nwidth = 86.36\nheight = 43.18\n\
+         [mesh]\nimport = \"shapes/roast.msh\"\nunit_mm = 1000\n\
+         [mesh.groups]\nvol_air = \"air\"\nvol_meat = \"meat\"\nmetal = \"wall\"\ninlet = \"feed\"\n"
+    );
+    let g = Geometry::from_toml_str(&text, Some(Path::new("/some/dir/case.toml"))).expect("valid");
+    assert_eq!(g.loads[0].shape, None);
+    let imp = g.mesh.import.expect("import");
+    assert_eq!(imp.file, Path::new("/some/dir/shapes/roast.msh"));
+    assert_eq!(imp.unit_mm, 1000.0);
+    assert_eq!(imp.groups.len(), 4);
+    assert!(imp
+        .groups
+        .contains(&("vol_meat".to_string(), "meat".to_string())));
+}
+
+#[test]
+fn cylinder_cavity_ports() {
+    let text = format!(
+        "{CYL}[[port]]\nname = \"t\"\nwall = \"top\"\ncenter = [0, 0]\nwidth = 86.36\nheight = 43.18\n\
+         [[port]]\nname = \"s\"\nwall = \"side\"\nangle_deg = 90\ncenter = [10, 100]\nwidth = 86.36\n\
+         height = 43.18\nrotated = true\n"
+    );
+    let g = parse(&text).expect("valid");
+    assert_eq!(
+        g.cavity.shape,
+        CavityShape::Cylinder {
+            radius: 150.0,
+            height: 200.0
+        }
+    );
+    assert_eq!(g.cavity.walls, WallMetal::Pec);
+    assert_eq!(g.ports[1].wall, PortWall::Side { angle_deg: 90.0 });
+    assert_eq!(g.ports[1].in_plane_extent(), [43.18, 86.36]);
+}
+
+// ----- error cases ----------------------------------------------------------------------
+
+#[test]
+fn syntax_error_has_line() {
+    let text = format!("{BASE}[mesh]\norder = = 2\n");
+    rejects(&text, line_of(&text, "order = ="), &[]);
+}
+
+#[test]
+fn unknown_top_level_key() {
+    let text = format!("{BASE}colour = \"red\"\n");
+    rejects(
+        &text,
+        line_of(&text, "colour"),
+        &["colour", "expected one of"],
+    );
+}
+
+#[test]
+fn unknown_key_in_load_names_the_load() {
+    let text = with_load(
+        BASE,
+        "name = \"bowl\"\nshape = \"box\"\nmin = [0,0,0]\nmax = [1,1,1]\nmaterial = \"ptfe\"\ncolour = 3",
+    );
+    rejects(
+        &text,
+        line_of(&text, "colour"),
+        &["colour", "load \"bowl\""],
+    );
+}
+
+#[test]
+fn unknown_key_in_port_names_the_port() {
+    let text = format!(
+        "{BASE}[[port]]\nname = \"feed\"\nwall = \"+x\"\ncenter = [100, 100]\nwidth = 80\nheight = 40\nimpedance = 50\n"
+    );
+    rejects(
+        &text,
+        line_of(&text, "impedance"),
+        &["impedance", "port \"feed\""],
+    );
+}
+
+#[test]
+fn unknown_key_in_cavity() {
+    let text = BASE.replace("walls", "depth = 3\nwalls");
+    rejects(&text, line_of(&text, "depth"), &["depth"]);
+}
+
+#[test]
+fn non_positive_cavity_size() {
+    let text = BASE.replace("[300.0, 300.0, 200.0]", "[300.0, -300.0, 200.0]");
+    rejects(
+        &text,
+        line_of(&text, "size"),
+        &["[cavity]", "size", "-300", "positive"],
+    );
+}
+
+#[test]
+fn non_finite_load_radius() {
+    let text = with_load(
+        BASE,
+        "name = \"cup\"\nshape = \"cylinder\"\ncenter = [100, 100]\nradius = nan\nbottom = 0\nheight = 10\nmaterial = \"water\"",
+    );
+    rejects(
+        &text,
+        line_of(&text, "radius"),
+        &["load \"cup\"", "radius", "NaN", "finite"],
+    );
+}
+
+#[test]
+fn zero_cylinder_cavity_radius() {
+    let text = CYL.replace("radius = 150.0", "radius = 0.0");
+    rejects(
+        &text,
+        line_of(&text, "radius"),
+        &["radius", "= 0", "positive"],
+    );
+}
+
+#[test]
+fn box_load_with_inverted_corners() {
+    let text = with_load(
+        BASE,
+        "name = \"slab\"\nshape = \"box\"\nmin = [10, 10, 10]\nmax = [20, 5, 20]\nmaterial = \"ptfe\"",
+    );
+    rejects(
+        &text,
+        line_of(&text, "max ="),
+        &["load \"slab\"", "[20, 5, 20]"],
+    );
+}
+
+#[test]
+fn load_outside_box_cavity() {
+    let text = with_load(
+        BASE,
+        "name = \"slab\"\nshape = \"box\"\nmin = [250, 10, 10]\nmax = [310, 50, 20]\nmaterial = \"ptfe\"",
+    );
+    rejects(
+        &text,
+        line_of(&text, "[[load]]"),
+        &["load \"slab\"", "310", "outside"],
+    );
+}
+
+#[test]
+fn cylinder_load_outside_box_cavity_in_z() {
+    let text = with_load(
+        BASE,
+        "name = \"tall\"\nshape = \"cylinder\"\ncenter = [100, 100]\nradius = 20\nbottom = 150\nheight = 60\nmaterial = \"potato\"",
+    );
+    rejects(
+        &text,
+        line_of(&text, "[[load]]"),
+        &["load \"tall\"", "210", "outside"],
+    );
+}
+
+#[test]
+fn cylinder_load_footprint_outside_box_cavity() {
+    let text = with_load(
+        BASE,
+        "name = \"cup\"\nshape = \"cylinder\"\ncenter = [15, 100]\nradius = 20\nbottom = 0\nheight = 10\nmaterial = \"water\"",
+    );
+    rejects(
+        &text,
+        line_of(&text, "[[load]]"),
+        &["load \"cup\"", "-5", "outside"],
+    );
+}
+
+#[test]
+fn loads_outside_cylinder_cavity() {
+    let text = with_load(
+        CYL,
+        "name = \"cup\"\nshape = \"cylinder\"\ncenter = [100, 0]\nradius = 60\nbottom = 0\nheight = 10\nmaterial = \"water\"",
+    );
+    rejects(
+        &text,
+        line_of(&text, "[[load]]"),
+        &["load \"cup\"", "160.000", "150"],
+    );
+    // A box whose corner (120, 120) is 169.7 mm from the axis.
+    let text = with_load(
+        CYL,
+        "name = \"tray\"\nshape = \"box\"\nmin = [-120, -120, 0]\nmax = [120, 120, 5]\nmaterial = \"ptfe\"",
+    );
+    rejects(
+        &text,
+        line_of(&text, "[[load]]"),
+        &["load \"tray\"", "120", "169.706"],
+    );
+}
+
+#[test]
+fn overlapping_boxes() {
+    let text = format!(
+        "{BASE}[[load]]\nname = \"a\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [50, 50, 50]\nmaterial = \"ptfe\"\n\
+         [[load]]\nname = \"b\"\nshape = \"box\"\nmin = [49, 49, 49]\nmax = [60, 60, 60]\nmaterial = \"ptfe\"\n"
+    );
+    let second = text
+        .match_indices("[[load]]")
+        .nth(1)
+        .map(|(i, _)| i)
+        .unwrap_or(0);
+    let line = text[..second].lines().count() + 1;
+    let err = rejects(
+        &text,
+        line,
+        &["load \"b\"", "load \"a\"", "overlaps", "(line 6)"],
+    );
+    assert!(matches!(err, GeometryError::LoadsOverlap { .. }));
+}
+
+#[test]
+fn overlapping_cylinders() {
+    // Bowl sunk 1 mm into the plate.
+    let text = format!(
+        "{BASE}[[load]]\nname = \"plate\"\nshape = \"cylinder\"\ncenter = [150, 150]\nradius = 100\nbottom = 10\nheight = 6\nmaterial = \"borosilicate glass\"\n\
+         [[load]]\nname = \"bowl\"\nshape = \"cylinder\"\ncenter = [150, 150]\nradius = 40\nbottom = 15\nheight = 30\nmaterial = \"water\"\n"
+    );
+    let line = line_of(&text, "name = \"bowl\"") - 1;
+    rejects(
+        &text,
+        line,
+        &["load \"bowl\"", "load \"plate\"", "z = 15 .. 16"],
+    );
+}
+
+#[test]
+fn overlapping_cylinder_and_box() {
+    let text = format!(
+        "{BASE}[[load]]\nname = \"block\"\nshape = \"box\"\nmin = [100, 100, 0]\nmax = [140, 140, 20]\nmaterial = \"ptfe\"\n\
+         [[load]]\nname = \"cup\"\nshape = \"cylinder\"\ncenter = [150, 120]\nradius = 15\nbottom = 0\nheight = 20\nmaterial = \"water\"\n"
+    );
+    let line = line_of(&text, "name = \"cup\"") - 1;
+    rejects(
+        &text,
+        line,
+        &["load \"cup\"", "load \"block\"", "radius 15"],
+    );
+}
+
+#[test]
+fn port_does_not_fit_box_wall() {
+    // +x wall, in-plane (y, z): z = 190 ± 21.59 pokes above 200.
+    let text = format!(
+        "{BASE}[[port]]\nname = \"feed\"\nwall = \"+x\"\ncenter = [150, 190]\nwidth = 86.36\nheight = 43.18\n"
+    );
+    let err = rejects(
+        &text,
+        line_of(&text, "[[port]]"),
+        &["port \"feed\"", "+x", "211.59"],
+    );
+    assert!(matches!(err, GeometryError::PortDoesNotFit { .. }));
+}
+
+#[test]
+fn rotated_port_does_not_fit() {
+    // Rotated: broad side along z; on the -z wall (x, y) it is along y: 150 ± 43.18 fits,
+    // but on the -y wall (x, z) z = 180 ± 43.18 does not.
+    let text = format!(
+        "{BASE}[[port]]\nwall = \"-y\"\ncenter = [150, 180]\nwidth = 86.36\nheight = 43.18\nrotated = true\n"
+    );
+    rejects(
+        &text,
+        line_of(&text, "[[port]]"),
+        &["port \"port1\"", "223.18"],
+    );
+}
+
+#[test]
+fn port_does_not_fit_cylinder_top() {
+    let text = format!(
+        "{CYL}[[port]]\nname = \"lid\"\nwall = \"top\"\ncenter = [120, 0]\nwidth = 86.36\nheight = 43.18\n"
+    );
+    rejects(
+        &text,
+        line_of(&text, "[[port]]"),
+        &["port \"lid\"", "top", "163.18"],
+    );
+}
+
+#[test]
+fn port_does_not_fit_cylinder_side() {
+    let text = format!(
+        "{CYL}[[port]]\nname = \"wide\"\nwall = \"side\"\ncenter = [0, 100]\nwidth = 480\nheight = 43.18\n"
+    );
+    rejects(
+        &text,
+        line_of(&text, "[[port]]"),
+        &["port \"wide\"", "480", "471.239"],
+    );
+    let text = format!(
+        "{CYL}[[port]]\nname = \"low\"\nwall = \"side\"\ncenter = [0, 10]\nwidth = 86.36\nheight = 43.18\n"
+    );
+    rejects(
+        &text,
+        line_of(&text, "[[port]]"),
+        &["port \"low\"", "-11.59"],
+    );
+}
+
+#[test]
+fn port_on_wrong_wall_for_shape() {
+    let text = format!(
+        "{BASE}[[port]]\nname = \"feed\"\nwall = \"top\"\ncenter = [150, 150]\nwidth = 86.36\nheight = 43.18\n"
+    );
+    rejects(
+        &text,
+        line_of(&text, "wall = \"top\""),
+        &["port \"feed\"", "\"top\"", "\"+z\""],
+    );
+    let text = format!(
+        "{CYL}[[port]]\nname = \"feed\"\nwall = \"+x\"\ncenter = [0, 100]\nwidth = 86.36\nheight = 43.18\n"
+    );
+    rejects(
+        &text,
+        line_of(&text, "wall = \"+x\""),
+        &["port \"feed\"", "\"+x\"", "\"side\""],
+    );
+}
+
+#[test]
+fn angle_only_on_side_wall() {
+    let text = format!(
+        "{CYL}[[port]]\nname = \"lid\"\nwall = \"top\"\nangle_deg = 30\ncenter = [0, 0]\nwidth = 86.36\nheight = 43.18\n"
+    );
+    rejects(
+        &text,
+        line_of(&text, "angle_deg"),
+        &["port \"lid\"", "angle_deg", "30"],
+    );
+}
+
+#[test]
+fn narrow_side_larger_than_broad_side() {
+    let text = format!(
+        "{BASE}[[port]]\nname = \"feed\"\nwall = \"+x\"\ncenter = [150, 100]\nwidth = 43.18\nheight = 86.36\n"
+    );
+    rejects(
+        &text,
+        line_of(&text, "height = 86.36"),
+        &["port \"feed\"", "86.36", "rotated"],
+    );
+}
+
+#[test]
+fn unknown_material_lists_known_ones() {
+    let text = with_load(
+        BASE,
+        "name = \"soup\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = \"gazpacho\"",
+    );
+    let err = rejects(
+        &text,
+        line_of(&text, "gazpacho"),
+        &[
+            "load \"soup\"",
+            "gazpacho",
+            "\"water\"",
+            "\"ptfe\"",
+            "\"borosilicate glass\"",
+        ],
+    );
+    assert!(matches!(err, GeometryError::UnknownMaterial { .. }));
+}
+
+#[test]
+fn metal_as_load_material() {
+    let text = with_load(
+        BASE,
+        "name = \"spoon\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = \"copper\"",
+    );
+    rejects(
+        &text,
+        line_of(&text, "material"),
+        &["load \"spoon\"", "copper", "metal"],
+    );
+}
+
+#[test]
+fn unknown_wall_metal() {
+    let text = BASE.replace("\"copper\"", "\"unobtainium\"");
+    let err = rejects(
+        &text,
+        line_of(&text, "walls"),
+        &["unobtainium", "\"copper\"", "\"pec\""],
+    );
+    assert!(matches!(err, GeometryError::UnknownMetal { .. }));
+}
+
+#[test]
+fn non_positive_wall_conductivity() {
+    let text = BASE.replace("\"copper\"", "{ conductivity = -1.0 }");
+    rejects(
+        &text,
+        line_of(&text, "walls"),
+        &["conductivity", "-1", "pec"],
+    );
+}
+
+#[test]
+fn negative_losses() {
+    for (key, value) in [
+        ("loss_tangent", "-0.01"),
+        ("loss_factor", "-2"),
+        ("conductivity", "-0.5"),
+    ] {
+        let text = with_load(
+            BASE,
+            &format!(
+                "name = \"neg\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = {{ permittivity = 4, {key} = {value} }}"
+            ),
+        );
+        rejects(
+            &text,
+            line_of(&text, "material"),
+            &["load \"neg\"", key, value, ">= 0"],
+        );
+    }
+}
+
+#[test]
+fn permittivity_below_one() {
+    let text = with_load(
+        BASE,
+        "name = \"foam\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = { permittivity = 0.5 }",
+    );
+    rejects(
+        &text,
+        line_of(&text, "material"),
+        &["load \"foam\"", "permittivity", "0.5", ">= 1"],
+    );
+}
+
+#[test]
+fn two_loss_kinds_and_unknown_material_key() {
+    let text = with_load(
+        BASE,
+        "name = \"x\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = { permittivity = 4, loss_tangent = 0.1, loss_factor = 0.4 }",
+    );
+    rejects(
+        &text,
+        line_of(&text, "material"),
+        &["load \"x\"", "only one"],
+    );
+    let text = with_load(
+        BASE,
+        "name = \"y\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = { permittivity = 4, tan_d = 0.1 }",
+    );
+    rejects(
+        &text,
+        line_of(&text, "material"),
+        &["load \"y\"", "tan_d", "loss_tangent"],
+    );
+}
+
+#[test]
+fn water_temperature_checks() {
+    let text = with_load(
+        BASE,
+        "name = \"hot\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = \"water\"\ntemperature = 120",
+    );
+    rejects(
+        &text,
+        line_of(&text, "temperature"),
+        &["load \"hot\"", "120", "0..100"],
+    );
+    let text = with_load(
+        BASE,
+        "name = \"warm\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = \"ptfe\"\ntemperature = 40",
+    );
+    rejects(
+        &text,
+        line_of(&text, "temperature"),
+        &["load \"warm\"", "40", "water"],
+    );
+}
+
+#[test]
+fn mesh_settings_checks() {
+    let text = format!("{BASE}[mesh]\norder = 3\n");
+    rejects(
+        &text,
+        line_of(&text, "order"),
+        &["[mesh]", "order = 3", "1 or 2"],
+    );
+    let text = format!("{BASE}[mesh]\nper_wavelength = 0\n");
+    rejects(
+        &text,
+        line_of(&text, "per_wavelength"),
+        &["per_wavelength = 0", "positive"],
+    );
+    let text = format!("{BASE}[mesh]\nmax_size = -20\n");
+    rejects(&text, line_of(&text, "max_size"), &["max_size = -20"]);
+    let text = format!("{BASE}[mesh]\nunit_mm = 1000\n");
+    rejects(
+        &text,
+        line_of(&text, "unit_mm"),
+        &["unit_mm = 1000", "import"],
+    );
+}
+
+#[test]
+fn solve_settings_checks() {
+    let text = format!("{BASE}[solve]\ntarget = -2.45\n");
+    rejects(
+        &text,
+        line_of(&text, "target"),
+        &["[solve]", "target = -2.45", "positive"],
+    );
+    let text = format!("{BASE}[solve]\nband = [2.5, 2.4]\n");
+    rejects(
+        &text,
+        line_of(&text, "band"),
+        &["band = [2.5, 2.4]", "lo < hi"],
+    );
+    let text = format!("{BASE}[solve]\nband = [2.4, 2.4]\n");
+    rejects(&text, line_of(&text, "band"), &["band = [2.4, 2.4]"]);
+    let text = format!("{BASE}[solve]\ncount = 0\n");
+    rejects(&text, line_of(&text, "count"), &["count = 0", "at least 1"]);
+}
+
+#[test]
+fn duplicate_load_names() {
+    let text = format!(
+        "{BASE}[[load]]\nname = \"a\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [10, 10, 10]\nmaterial = \"ptfe\"\n\
+         [[load]]\nname = \"a\"\nshape = \"box\"\nmin = [20, 0, 0]\nmax = [30, 10, 10]\nmaterial = \"ptfe\"\n"
+    );
+    let second = text
+        .match_indices("name = \"a\"")
+        .nth(1)
+        .map(|(i, _)| i)
+        .unwrap_or(0);
+    let line = text[..second].lines().count() + 1;
+    let err = rejects(
+        &text,
+        line,
+        &["load name \"a\"", "twice", "first on line 6"],
+    );
+    assert!(matches!(err, GeometryError::DuplicateName { .. }));
+}
+
+#[test]
+fn duplicate_port_names_including_defaults() {
+    // The second port's default name "port2" collides with the first port's given name.
+    let text = format!(
+        "{BASE}[[port]]\nname = \"port2\"\nwall = \"+x\"\ncenter = [100, 100]\nwidth = 80\nheight = 40\n\
+         [[port]]\nwall = \"-x\"\ncenter = [100, 100]\nwidth = 80\nheight = 40\n"
+    );
+    let second = text
+        .match_indices("[[port]]")
+        .nth(1)
+        .map(|(i, _)| i)
+        .unwrap_or(0);
+    let line = text[..second].lines().count() + 1;
+    rejects(&text, line, &["port name \"port2\"", "twice"]);
+}
+
+#[test]
+fn load_without_shape_when_not_importing() {
+    let text = with_load(BASE, "name = \"blob\"\nmaterial = \"potato\"");
+    rejects(
+        &text,
+        line_of(&text, "[[load]]"),
+        &["load \"blob\"", "shape", "import"],
+    );
+}
+
+#[test]
+fn bad_group_target() {
+    let text = format!(
+        "{BASE}[[load]]\nname = \"meat\"\nmaterial = \"raw beef\"\n[mesh]\nimport = \"a.msh\"\n\
+         [mesh.groups]\nvol = \"meat\"\nother = \"gravy\"\n"
+    );
+    let err = rejects(
+        &text,
+        line_of(&text, "gravy"),
+        &["other", "gravy", "\"meat\"", "\"air\""],
+    );
+    assert!(matches!(err, GeometryError::UnknownGroupTarget { .. }));
+}
+
+#[test]
+fn imported_load_without_group() {
+    let text = format!(
+        "{BASE}[[load]]\nname = \"meat\"\nmaterial = \"raw beef\"\n[mesh]\nimport = \"a.msh\"\n\
+         [mesh.groups]\nvol = \"air\"\n"
+    );
+    rejects(
+        &text,
+        line_of(&text, "[mesh.groups]"),
+        &["load \"meat\"", "[mesh.groups]"],
+    );
+}
+
+#[test]
+fn missing_file_is_an_io_error() {
+    let err = Geometry::from_file("/nonexistent/dir/none.toml").expect_err("no such file");
+    assert!(matches!(err, GeometryError::Io { .. }));
+    assert!(err.to_string().contains("none.toml"));
+}
