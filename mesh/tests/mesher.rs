@@ -8,7 +8,7 @@ use antinode_mesh::geometry::{
     WallMetal,
 };
 use antinode_mesh::material::{Dielectric, Material};
-use antinode_mesh::mesher::{element_sizes, mesh_geometry, MesherError};
+use antinode_mesh::mesher::{element_sizes, mesh_geometry, MesherError, GRADING};
 use antinode_mesh::quality::{dihedral_angles, quality_report, radius_ratio};
 use antinode_mesh::{BoundaryTag, TetMesh};
 use rand::{Rng, SeedableRng};
@@ -158,7 +158,8 @@ fn check_invariants(geom: &Geometry, mesh: &TetMesh, h_min_mm: f64) -> Stats {
         let v = mesh.signed_volume(t);
         assert!(
             v > v_min,
-            "tet {t} has volume {v:e} m³ (threshold {v_min:e})"
+            "tet {t} has volume {v:e} m³ (threshold {v_min:e}) at {:?} mm",
+            mesh.tets[t].map(|i| mesh.nodes[i as usize].map(|x| x / MM))
         );
     }
     // Every face is used by one or two tets; the faces used once are exactly the boundary.
@@ -305,12 +306,21 @@ fn barycentric_inside(v: [[f64; 3]; 4], q: [f64; 3]) -> bool {
     l.iter().all(|x| x / total >= -1e-12)
 }
 
-/// Mean edge length (mm) of the tets of each region.
-fn mean_edge_per_region(mesh: &TetMesh) -> Vec<f64> {
+/// Mean edge length (mm) of the tets of each region; with `far = (geom, d)`, only tets
+/// whose centroid is farther than `d` mm from every load.
+fn mean_edge_per_region(mesh: &TetMesh, far: Option<(&Geometry, f64)>) -> Vec<f64> {
     let mut sum = vec![0.0; mesh.regions.len()];
     let mut n = vec![0usize; mesh.regions.len()];
     for (t, tet) in mesh.tets.iter().enumerate() {
         let r = mesh.tet_region[t] as usize;
+        if let Some((g, d)) = far {
+            let c: [f64; 3] = std::array::from_fn(|k| {
+                tet.iter().map(|&i| mesh.nodes[i as usize][k]).sum::<f64>() / 4.0 / MM
+            });
+            if g.loads.iter().any(|l| load_distance(l.shape, c) <= d) {
+                continue;
+            }
+        }
         for a in 0..4 {
             for b in a + 1..4 {
                 let (p, q) = (mesh.nodes[tet[a] as usize], mesh.nodes[tet[b] as usize]);
@@ -325,6 +335,29 @@ fn mean_edge_per_region(mesh: &TetMesh) -> Vec<f64> {
         .zip(&n)
         .map(|(s, &k)| s / k.max(1) as f64)
         .collect()
+}
+
+/// Euclidean distance (mm) from a point to a load (0 inside).
+fn load_distance(shape: Option<LoadShape>, p: [f64; 3]) -> f64 {
+    match shape {
+        Some(LoadShape::Box { min, max }) => {
+            let d: Vec<f64> = (0..3)
+                .map(|k| (min[k] - p[k]).max(p[k] - max[k]).max(0.0))
+                .collect();
+            (d[0] * d[0] + d[1] * d[1] + d[2] * d[2]).sqrt()
+        }
+        Some(LoadShape::Cylinder {
+            center,
+            radius,
+            bottom,
+            height,
+        }) => {
+            let dr = ((p[0] - center[0]).hypot(p[1] - center[1]) - radius).max(0.0);
+            let dz = (bottom - p[2]).max(p[2] - bottom - height).max(0.0);
+            dr.hypot(dz)
+        }
+        None => f64::INFINITY,
+    }
 }
 
 /// Volume deficit bound of a cylinder meshed as an inscribed polygon with sides ≤ h
@@ -407,14 +440,18 @@ fn box_with_bowl_on_plate_and_box_on_floor() {
             "load {i}: {v} vs {exact} (bound {bound})"
         );
     }
-    // Water meshed ≥ 5× finer than air (issue 2 asks ~9× by element size; edge means in
-    // air include the graded shell, so 5× is the requirement's lower bound).
-    let e = mean_edge_per_region(&mesh);
-    println!(
-        "mean edge per region (mm): {e:?}; target sizes {:?}",
-        sizes.iter().map(|s| s.size_mm).collect::<Vec<_>>()
+    // Water meshed ≥ 5× finer than air (issue 2: ~9× by element size). Air is measured
+    // outside the graded shell, i.e. farther than (h_air − h_water)/GRADING from every
+    // load, where the size rule asks for h_air (analytic from the size rule).
+    let e = mean_edge_per_region(&mesh, None);
+    let shell = (sizes[0].size_mm - sizes[2].size_mm) / GRADING;
+    let far = mean_edge_per_region(&mesh, Some((&g, shell)));
+    println!("mean edge per region (mm): {e:?}; air beyond the {shell:.0} mm shell: {:.2}; target sizes {:?}", far[0], sizes.iter().map(|s| s.size_mm).collect::<Vec<_>>());
+    assert!(
+        far[0] / e[2] >= 5.0,
+        "air/water edge ratio {}",
+        far[0] / e[2]
     );
-    assert!(e[0] / e[2] >= 5.0, "air/water edge ratio {}", e[0] / e[2]);
     let mut rng = ChaCha8Rng::seed_from_u64(7);
     check_regions(&g, &mesh, &mut rng, 150, h_min);
 }

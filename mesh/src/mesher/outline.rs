@@ -29,8 +29,6 @@ pub(crate) struct Outline {
     pub points: Vec<P2>,
     /// Constraint edges (indices into `points`), short enough for the size field.
     pub edges: Vec<[usize; 2]>,
-    /// Cylinder cavity radius (vertices created on its outline are put back on the circle).
-    pub circle_radius: Option<f64>,
 }
 
 /// Side-wall port ends as angles (cylinder) or points on the box outline.
@@ -113,36 +111,10 @@ fn circle_angles(c: P2, r: f64, field: &SizeField, a0: f64) -> Vec<f64> {
 
 impl Outline {
     pub fn build(geom: &Geometry, field: &SizeField) -> Result<Self, MesherError> {
-        let (side_angles, side_points) = side_port_points(geom);
-        let (cavity, circle_radius) = match geom.cavity.shape {
-            CavityShape::Box { size } => (rect([0.0, 0.0], [size[0], size[1]]), None),
-            CavityShape::Cylinder { radius, .. } => {
-                let mut angles = circle_angles([0.0, 0.0], radius, field, 0.0);
-                // Side-port ends must be outline vertices; drop regular vertices too close
-                // to them so no sliver edge appears.
-                for &a in &side_angles {
-                    let a = a.rem_euclid(2.0 * PI);
-                    let tol = 0.3 * field.h_xy([radius * a.cos(), radius * a.sin()]) / radius;
-                    angles.retain(|&b| {
-                        let d = (b - a).rem_euclid(2.0 * PI);
-                        d.min(2.0 * PI - d) > tol
-                    });
-                    angles.push(a);
-                }
-                angles.sort_by(f64::total_cmp);
-                let poly = angles
-                    .iter()
-                    .map(|a| [radius * a.cos(), radius * a.sin()])
-                    .collect();
-                (poly, Some(radius))
-            }
-        };
-        let clamp = |p: P2| clamp_into_convex(&cavity, p);
-
-        let mut polys: Vec<Vec<P2>> = vec![cavity.clone()];
+        let (mut wall_angles, side_points) = side_port_points(geom);
         let mut footprints = Vec::new();
-        for (i, sl) in field.loads.iter().enumerate() {
-            let poly: Vec<P2> = match sl.shape {
+        for sl in &field.loads {
+            footprints.push(match sl.shape {
                 LoadShape::Box { min, max } => rect([min[0], min[1]], [max[0], max[1]]),
                 LoadShape::Cylinder { center, radius, .. } => {
                     circle_angles(center, radius, field, 0.0)
@@ -150,20 +122,85 @@ impl Outline {
                         .map(|a| [center[0] + radius * a.cos(), center[1] + radius * a.sin()])
                         .collect()
                 }
-            };
-            let poly: Vec<P2> = poly.into_iter().map(clamp).collect();
-            if polygon_area(&poly) <= 0.0 {
+            });
+        }
+        let mut port_polys = Vec::new();
+        for i in 0..geom.ports.len() {
+            if let Some((_, [lo, hi])) = horizontal_port_rect(geom, i) {
+                port_polys.push(rect(lo, hi));
+            }
+        }
+        let cavity = match geom.cavity.shape {
+            CavityShape::Box { size } => rect([0.0, 0.0], [size[0], size[1]]),
+            CavityShape::Cylinder { radius, .. } => {
+                // Footprint vertices near the wall (a load touching it) are snapped onto
+                // the circle and made wall vertices too, so the two outlines share the
+                // chord there instead of forming slivers between nearly equal chords.
+                for poly in footprints.iter_mut().chain(port_polys.iter_mut()) {
+                    for p in poly.iter_mut() {
+                        let r = p[0].hypot(p[1]);
+                        if r > radius - 0.25 * field.h_xy(*p) {
+                            let a = p[1].atan2(p[0]);
+                            *p = [radius * a.cos(), radius * a.sin()];
+                            wall_angles.push(a);
+                        }
+                    }
+                }
+                let mut angles = circle_angles([0.0, 0.0], radius, field, 0.0);
+                // Port ends and snapped vertices must be wall vertices; drop regular
+                // vertices too close to them so no sliver edge appears.
+                for &a in &wall_angles {
+                    let a = a.rem_euclid(2.0 * PI);
+                    let tol = 0.3 * field.h_xy([radius * a.cos(), radius * a.sin()]) / radius;
+                    angles.retain(|&b| {
+                        let d = (b - a).rem_euclid(2.0 * PI);
+                        d.min(2.0 * PI - d) > tol
+                    });
+                }
+                angles.extend(wall_angles.iter().map(|a| a.rem_euclid(2.0 * PI)));
+                angles.sort_by(f64::total_cmp);
+                angles.dedup_by(|a, b| (*a - *b).abs() < 1e-12);
+                // Removing vertices may leave arcs longer than the local size: fill them
+                // with evenly spaced wall vertices (never split chords, whose midpoints
+                // would lie inside the circle).
+                let mut filled = Vec::with_capacity(angles.len());
+                for k in 0..angles.len() {
+                    let a = angles[k];
+                    let b = if k + 1 < angles.len() {
+                        angles[k + 1]
+                    } else {
+                        angles[0] + 2.0 * PI
+                    };
+                    let mid = 0.5 * (a + b);
+                    let h = field.h_xy([radius * mid.cos(), radius * mid.sin()]);
+                    let h = h.min(field.h_xy([radius * a.cos(), radius * a.sin()]));
+                    let n = ((b - a) * radius / h - 1e-9).ceil().max(1.0) as usize;
+                    filled.extend((0..n).map(|j| a + (b - a) * j as f64 / n as f64));
+                }
+                let angles = filled;
+                let poly = angles
+                    .iter()
+                    .map(|a| [radius * a.cos(), radius * a.sin()])
+                    .collect();
+                poly
+            }
+        };
+        let clamp = |p: P2| clamp_into_convex(&cavity, p);
+        let mut polys: Vec<Vec<P2>> = vec![cavity.clone()];
+        for (i, poly) in footprints.iter_mut().enumerate() {
+            for p in poly.iter_mut() {
+                *p = clamp(*p);
+            }
+            poly.dedup();
+            if polygon_area(poly) <= 0.0 {
                 return Err(MesherError::Outside {
                     what: format!("load '{}'", geom.loads[i].name),
                 });
             }
-            footprints.push(poly.clone());
-            polys.push(poly);
+            polys.push(poly.clone());
         }
-        for i in 0..geom.ports.len() {
-            if let Some((_, [lo, hi])) = horizontal_port_rect(geom, i) {
-                polys.push(rect(lo, hi).into_iter().map(clamp).collect());
-            }
+        for poly in port_polys {
+            polys.push(poly.into_iter().map(clamp).collect());
         }
 
         // Raw segments and points.
@@ -229,13 +266,22 @@ impl Outline {
 
         // Subdivide each piece from its lower-numbered end, so a piece shared by two
         // outlines gets the same vertices.
+        let circle = match geom.cavity.shape {
+            CavityShape::Cylinder { radius, .. } => Some(radius),
+            CavityShape::Box { .. } => None,
+        };
         let mut points = pts.p.clone();
         let mut edges = Vec::new();
         for &[u, v] in &pieces {
             let (pu, pv) = (points[u], points[v]);
             let len = ((pv[0] - pu[0]).powi(2) + (pv[1] - pu[1]).powi(2)).sqrt();
             let at = |t: f64| [pu[0] + t * (pv[0] - pu[0]), pu[1] + t * (pv[1] - pu[1])];
-            let ts = graded_params(len, field.h_min(), |t| field.h_xy(at(t)));
+            let on_wall = |p: P2| circle.is_some_and(|r| (p[0].hypot(p[1]) - r).abs() <= tol);
+            let ts = if on_wall(pu) && on_wall(pv) {
+                vec![0.0, 1.0] // a wall chord, already no longer than the local size
+            } else {
+                graded_params(len, field.h_min(), |t| field.h_xy(at(t)))
+            };
             let mut prev = u;
             for &t in &ts[1..ts.len() - 1] {
                 points.push(at(t));
@@ -250,7 +296,6 @@ impl Outline {
             footprints,
             points,
             edges,
-            circle_radius,
         })
     }
 }

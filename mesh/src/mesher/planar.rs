@@ -123,11 +123,15 @@ impl Planar {
             RefinementParameters::<f64>::new()
                 .with_angle_limit(AngleLimit::from_deg(ANGLE_LIMIT_DEG))
                 .exclude_outer_faces(false)
+                // Outline pieces are already no longer than the local size. Splitting them
+                // would put midpoints off a curved wall, and a midpoint rounded to the
+                // inside of the hull leaves a flat triangle behind.
+                .keep_constraint_edges()
                 .with_max_additional_vertices(n0 + 1000),
         );
         let _ = result.refinement_complete; // an incomplete refinement still gives a valid mesh
 
-        let mut points: Vec<P2> = cdt
+        let points: Vec<P2> = cdt
             .vertices()
             .map(|v| [v.position().x, v.position().y])
             .collect();
@@ -150,17 +154,6 @@ impl Planar {
         for t in &mut tris {
             if orient(t, &points) < 0.0 {
                 t.swap(1, 2);
-            }
-        }
-        // Refinement splits outline edges at their midpoints; put those back on a
-        // cylinder wall so the wall stays a polygon inscribed in the circle.
-        if let Some(r) = outline.circle_radius {
-            for e in &boundary_edges {
-                for &i in e {
-                    let p = &mut points[i as usize];
-                    let d = p[0].hypot(p[1]);
-                    *p = [p[0] * r / d, p[1] * r / d];
-                }
             }
         }
         for t in &tris {
