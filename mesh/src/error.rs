@@ -62,6 +62,8 @@ fn in_item(item: &Option<Item>) -> String {
 }
 
 /// A rejected geometry file.
+///
+/// The location is boxed to keep `Result<_, GeometryError>` small.
 #[derive(Debug, thiserror::Error)]
 pub enum GeometryError {
     /// The file could not be read.
@@ -76,7 +78,7 @@ pub enum GeometryError {
     /// reported by the TOML reader.
     #[error("{at}{}: {message}", in_item(item))]
     Toml {
-        at: Location,
+        at: Box<Location>,
         item: Option<Item>,
         message: String,
     },
@@ -84,7 +86,7 @@ pub enum GeometryError {
     /// A key that must be present for this entry is missing.
     #[error("{at}: {item}: missing key `{key}`; {hint}")]
     MissingKey {
-        at: Location,
+        at: Box<Location>,
         item: Item,
         key: String,
         hint: String,
@@ -93,7 +95,7 @@ pub enum GeometryError {
     /// A value outside its allowed range or set; `allowed` says what would be accepted.
     #[error("{at}: {item}: {key} = {value} is not allowed: {allowed}")]
     InvalidValue {
-        at: Location,
+        at: Box<Location>,
         item: Item,
         key: String,
         value: String,
@@ -107,7 +109,7 @@ pub enum GeometryError {
          conductivity in S/m)"
     )]
     UnknownMaterial {
-        at: Location,
+        at: Box<Location>,
         load: String,
         name: String,
         known: String,
@@ -119,7 +121,7 @@ pub enum GeometryError {
          (lossless), or {{ conductivity = .. }} in S/m"
     )]
     UnknownMetal {
-        at: Location,
+        at: Box<Location>,
         name: String,
         known: String,
     },
@@ -127,7 +129,7 @@ pub enum GeometryError {
     /// A load reaches outside the cavity.
     #[error("{at}: load \"{load}\" reaches outside the cavity: {detail}; move or shrink it")]
     LoadOutsideCavity {
-        at: Location,
+        at: Box<Location>,
         load: String,
         detail: String,
     },
@@ -138,7 +140,7 @@ pub enum GeometryError {
          but not overlap", other_line.map_or("?".to_string(), |l| l.to_string())
     )]
     LoadsOverlap {
-        at: Location,
+        at: Box<Location>,
         load: String,
         other: String,
         other_line: Option<usize>,
@@ -148,7 +150,7 @@ pub enum GeometryError {
     /// A port rectangle does not lie within its wall.
     #[error("{at}: port \"{port}\" does not fit on wall \"{wall}\": {detail}")]
     PortDoesNotFit {
-        at: Location,
+        at: Box<Location>,
         port: String,
         wall: String,
         detail: String,
@@ -160,7 +162,7 @@ pub enum GeometryError {
          {allowed}"
     )]
     PortWrongWall {
-        at: Location,
+        at: Box<Location>,
         port: String,
         wall: String,
         shape: String,
@@ -173,7 +175,7 @@ pub enum GeometryError {
         first_line.map_or("?".to_string(), |l| l.to_string())
     )]
     DuplicateName {
-        at: Location,
+        at: Box<Location>,
         /// "load" or "port".
         kind: &'static str,
         name: String,
@@ -186,7 +188,7 @@ pub enum GeometryError {
          {allowed}"
     )]
     UnknownGroupTarget {
-        at: Location,
+        at: Box<Location>,
         group: String,
         target: String,
         allowed: String,
@@ -209,7 +211,7 @@ impl GeometryError {
             | PortDoesNotFit { at, .. }
             | PortWrongWall { at, .. }
             | DuplicateName { at, .. }
-            | UnknownGroupTarget { at, .. } => Some(at),
+            | UnknownGroupTarget { at, .. } => Some(at.as_ref()),
         }
     }
 

@@ -438,23 +438,23 @@ impl Ctx<'_> {
             + 1
     }
 
-    fn at(&self, span: Range<usize>) -> Location {
-        Location {
+    fn at(&self, span: Range<usize>) -> Box<Location> {
+        Box::new(Location {
             file: self.file.clone(),
             line: Some(self.line_of(span.start)),
-        }
+        })
     }
 
     fn toml_error(&self, e: &toml::de::Error) -> GeometryError {
         let span = e.span();
         let item = span.as_ref().and_then(|s| self.item_containing(s.start));
         GeometryError::Toml {
-            at: Location {
+            at: Box::new(Location {
                 file: self.file.clone(),
                 line: span.map(|s| self.line_of(s.start)),
-            },
+            }),
             item,
-            message: e.message().trim().to_string(),
+            message: with_hint(e.message().trim()),
         }
     }
 
@@ -1568,6 +1568,27 @@ impl Ctx<'_> {
             count,
         })
     }
+}
+
+/// Adds what to write to the TOML reader's "missing field" messages.
+fn with_hint(message: &str) -> String {
+    let Some(rest) = message.strip_prefix("missing field `") else {
+        return message.to_string();
+    };
+    let field = rest.trim_end_matches('`');
+    let hint = match field {
+        "cavity" => "add a [cavity] table with shape, size (box) or radius and height (cylinder), and walls",
+        "shape" => "use shape = \"box\" or \"cylinder\"",
+        "walls" => "use walls = a metal name (\"copper\", \"aluminium\", \"stainless steel 304\"), \"pec\", or { conductivity = .. } in S/m",
+        "name" => "every [[load]] needs name = \"...\"",
+        "material" => "use material = a built-in name such as \"water\", or { permittivity = .., loss_tangent = .. }",
+        "wall" => "a port needs wall = \"-x\" .. \"+z\" (box) or \"top\", \"bottom\", \"side\" (cylinder)",
+        "center" => "a port needs center = [u, v], its position in the wall's two in-plane coordinates (mm)",
+        "width" => "a port needs width = broad side in mm (WR-340: 86.36)",
+        "height" => "a port needs height = narrow side in mm (WR-340: 43.18)",
+        _ => return message.to_string(),
+    };
+    format!("{message}; {hint}")
 }
 
 /// A TOML number as f64 (integers are accepted for convenience).

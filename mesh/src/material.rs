@@ -8,7 +8,7 @@
 //! from the cited table, or "common practice, no source".
 
 /// Vacuum permittivity, F/m (CODATA 2018).
-pub const EPS0: f64 = 8.854_187_8128e-12;
+pub const EPS0: f64 = 8.854_187_812_8e-12;
 
 /// Temperature range (°C) accepted for the water model; outside it `water_debye` clamps.
 pub const WATER_TEMPERATURE_RANGE_C: [f64; 2] = [0.0, 100.0];

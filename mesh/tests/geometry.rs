@@ -172,7 +172,7 @@ fn custom_materials_and_walls() {
     assert_eq!(g.loads[1].material.permeability, 2.0);
     // ε″ = σ / (ω ε0) (design.md §3).
     let (_, ei) = g.loads[2].material.permittivity(2.45e9);
-    let expect = 0.5 / (2.0 * std::f64::consts::PI * 2.45e9 * 8.854_187_8128e-12);
+    let expect = 0.5 / (2.0 * std::f64::consts::PI * 2.45e9 * 8.854_187_812_8e-12);
     assert!((ei - expect).abs() < 1e-12 * expect);
 }
 
@@ -805,4 +805,14 @@ fn missing_file_is_an_io_error() {
     let err = Geometry::from_file("/nonexistent/dir/none.toml").expect_err("no such file");
     assert!(matches!(err, GeometryError::Io { .. }));
     assert!(err.to_string().contains("none.toml"));
+}
+
+#[test]
+fn missing_walls_says_what_to_write() {
+    let text = BASE.replace("walls = \"copper\"\n", "");
+    rejects(
+        &text,
+        line_of(&text, "[cavity]"),
+        &["walls", "\"pec\"", "conductivity"],
+    );
 }
