@@ -176,7 +176,7 @@ pub const WATER_DEFAULT_TEMPERATURE_C: f64 = 20.0;
 /// Dielectric values are for about 2.45 GHz and room temperature unless the source says
 /// otherwise; food values vary widely with composition and temperature.
 pub fn builtin_list() -> Vec<MaterialEntry> {
-    // (name, ε′, tan δ or ε″ via a closure-free table: stored as ε″ below)
+    // Dielectrics are stored as ε′ and ε″ (ε″ = ε′ tan δ where the source gives tan δ).
     let diel =
         |name: &'static str, eps_real: f64, eps_imag: f64, source: &'static str| MaterialEntry {
             name,
