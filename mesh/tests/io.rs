@@ -211,12 +211,14 @@ fn mesh_vtu_has_counts_arrays_and_exact_values() {
         vec![4, 8, 12, 16, 20, 24]
     );
     assert_eq!(array(&arrays, "types").1, vec![10u8; 6]);
+    std::fs::remove_dir_all(dir).unwrap();
 }
 
 #[test]
 fn boundary_vtu_tags_wall_zero_and_port_one() {
     let mesh = cube_mesh(1.0);
-    let path = out_dir("boundary-vtu").join("boundary.vtu");
+    let dir = out_dir("boundary-vtu");
+    let path = dir.join("boundary.vtu");
     write_boundary_vtu(&path, &mesh).unwrap();
     let xml = std::fs::read_to_string(&path).unwrap();
     assert!(xml.contains("NumberOfPoints=\"8\" NumberOfCells=\"12\""));
@@ -226,6 +228,7 @@ fn boundary_vtu_tags_wall_zero_and_port_one() {
     assert_eq!(tags.iter().filter(|&&t| t == 1).count(), 1);
     assert_eq!(tags.iter().filter(|&&t| t == 0).count(), 11);
     assert_eq!(array(&arrays, "types").1, vec![5u8; 12]);
+    std::fs::remove_dir_all(dir).unwrap();
 }
 
 #[test]
@@ -274,6 +277,7 @@ fn field_piece_with_point_vectors_and_pvd_collection() {
     assert!(attrs.contains("NumberOfComponents=\"3\""));
     assert_eq!(f64s(e_bytes).len(), 24);
     assert_eq!(f64s(&array(&arrays, "|E|").1), mag);
+    std::fs::remove_dir_all(dir).unwrap();
 }
 
 #[test]
@@ -318,6 +322,7 @@ fn vtu_rejects_inconsistent_data_and_writes_nothing() {
 
     let err = write_pvd(&dir.join("x.pvd"), &[(f64::NAN, "a.vtu")]).unwrap_err();
     assert!(err.to_string().contains("not finite"), "{err}");
+    std::fs::remove_dir_all(dir).unwrap();
 }
 
 #[test]
@@ -417,6 +422,7 @@ fn msh_round_trip_keeps_nodes_regions_and_tags() {
     assert_eq!(back.tets, mesh.tets);
     assert_eq!(back.tet_region, mesh.tet_region);
     assert_eq!(sorted_boundary(&back), sorted_boundary(&mesh));
+    std::fs::remove_dir_all(dir).unwrap();
 }
 
 // ----- MSH errors --------------------------------------------------------------------
