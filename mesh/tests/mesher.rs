@@ -794,19 +794,23 @@ fn quality_of_known_tetrahedra() {
 }
 
 #[test]
-#[ignore = "heavy: fine water load, prints timing"]
-fn heavy_box_with_bowl_fine() {
-    let mut g = geometry(
+#[ignore = "heavy: prints size, time and quality of a box with a water bowl"]
+fn heavy_box_with_water_bowl_figures() {
+    let g = geometry(
         CavityShape::Box {
-            size: [350.0, 350.0, 230.0],
+            size: [300.0, 300.0, 200.0],
         },
-        vec![("bowl", cyl([175.0, 175.0], 80.0, 10.0, 60.0), water())],
+        vec![("bowl", cyl([150.0, 150.0], 60.0, 10.0, 40.0), water())],
         vec![],
     );
-    g.mesh.per_wavelength = 8.0;
     let t0 = Instant::now();
     let mesh = mesh_geometry(&g).expect("mesh");
-    println!("{} tets in {:.2?}", mesh.tets.len(), t0.elapsed());
+    let dt = t0.elapsed();
+    let q = quality_report(&mesh);
+    println!(
+        "box 300x300x200 + water bowl r60 h40, per_wavelength 5: {} nodes, {} tets in {:.2?}; dihedral {:.1}°..{:.1}°, {} poor ({}), radius ratio min {:.3} mean {:.3}",
+        mesh.nodes.len(), mesh.tets.len(), dt, q.min_dihedral_deg, q.max_dihedral_deg, q.poor_count, q.poor_threshold, q.min_radius_ratio, q.mean_radius_ratio
+    );
     let sizes = element_sizes(&g).expect("sizes");
     check_invariants(&g, &mesh, sizes[1].size_mm);
 }
