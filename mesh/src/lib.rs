@@ -10,6 +10,7 @@ pub mod gmsh;
 pub mod material;
 pub mod mesher;
 pub mod quality;
+pub mod structured;
 pub mod tet_mesh;
 pub mod vtk;
 

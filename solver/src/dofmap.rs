@@ -1,0 +1,156 @@
+//! Global numbering of Nédélec degrees of freedom and the PEC constraint.
+//!
+//! On a perfect electric conductor n × E = 0. A basis function has a non-zero
+//! tangential trace on a boundary face only if it belongs to that face or to one of its
+//! edges, so PEC is imposed exactly by dropping the unknowns of boundary edges and faces.
+//! Unknowns are numbered edge by edge (kinds of one edge consecutive), then face by face.
+
+use crate::element::{Entity, NedelecOrder, NedelecTet};
+use crate::topology::Topology;
+use antinode_mesh::BoundaryTag;
+
+/// Marker for a local function whose unknown was eliminated (PEC).
+pub const FIXED: u32 = u32::MAX;
+
+/// Degree-of-freedom map of one element order on one mesh.
+#[derive(Clone, Debug)]
+pub struct DofMap {
+    pub order: NedelecOrder,
+    /// Number of free unknowns.
+    pub n_dofs: usize,
+    /// Local functions per tetrahedron.
+    pub n_local: usize,
+    /// Global unknown of local function a of tet t at `t * n_local + a`, or [`FIXED`].
+    pub tet_dofs: Vec<u32>,
+    /// First unknown of each edge (its kinds follow), or [`FIXED`].
+    pub edge_dof: Vec<u32>,
+    /// First unknown of each face (its kinds follow), or [`FIXED`].
+    pub face_dof: Vec<u32>,
+    /// Vertices not on the constrained boundary (their hat functions' gradients are in
+    /// the discrete kernel of the curl).
+    pub vertex_free: Vec<bool>,
+}
+
+impl DofMap {
+    /// Number unknowns, eliminating those on boundary faces whose tag satisfies `is_pec`.
+    pub fn new(
+        topo: &Topology,
+        n_nodes: usize,
+        order: NedelecOrder,
+        is_pec: impl Fn(BoundaryTag) -> bool,
+    ) -> Self {
+        let mut edge_fixed = vec![false; topo.edges.len()];
+        let mut face_fixed = vec![false; topo.faces.len()];
+        let mut vertex_free = vec![true; n_nodes];
+        for (fi, tag) in topo.face_tag.iter().enumerate() {
+            if let Some(tag) = tag {
+                if is_pec(*tag) {
+                    face_fixed[fi] = true;
+                    let [a, b, c] = topo.faces[fi];
+                    for v in [a, b, c] {
+                        vertex_free[v as usize] = false;
+                    }
+                    for (p, q) in [(a, b), (a, c), (b, c)] {
+                        if let Ok(e) = topo.edges.binary_search(&[p, q]) {
+                            edge_fixed[e] = true;
+                        }
+                    }
+                }
+            }
+        }
+        let (pe, pf) = (order.per_edge(), order.per_face());
+        let mut next = 0u32;
+        let edge_dof: Vec<u32> = edge_fixed
+            .iter()
+            .map(|&fixed| {
+                if fixed {
+                    FIXED
+                } else {
+                    let d = next;
+                    next += pe as u32;
+                    d
+                }
+            })
+            .collect();
+        let face_dof: Vec<u32> = face_fixed
+            .iter()
+            .map(|&fixed| {
+                if fixed || pf == 0 {
+                    FIXED
+                } else {
+                    let d = next;
+                    next += pf as u32;
+                    d
+                }
+            })
+            .collect();
+        let element = NedelecTet::new(order);
+        let n_local = element.len();
+        let mut tet_dofs = vec![FIXED; topo.n_tets() * n_local];
+        for t in 0..topo.n_tets() {
+            for a in 0..n_local {
+                let d = match element.entity(a) {
+                    Entity::Edge { edge, kind } => {
+                        let base = edge_dof[topo.tet_edges[t][edge] as usize];
+                        if base == FIXED {
+                            FIXED
+                        } else {
+                            base + kind as u32
+                        }
+                    }
+                    Entity::Face { face, kind } => {
+                        let base = face_dof[topo.tet_faces[t][face] as usize];
+                        if base == FIXED {
+                            FIXED
+                        } else {
+                            base + kind as u32
+                        }
+                    }
+                };
+                tet_dofs[t * n_local + a] = d;
+            }
+        }
+        Self {
+            order,
+            n_dofs: next as usize,
+            n_local,
+            tet_dofs,
+            edge_dof,
+            face_dof,
+            vertex_free,
+        }
+    }
+
+    /// Unknowns of tetrahedron `t` (with [`FIXED`] for eliminated ones).
+    pub fn of_tet(&self, t: usize) -> &[u32] {
+        &self.tet_dofs[t * self.n_local..(t + 1) * self.n_local]
+    }
+
+    /// Discrete divergence residual ‖Gᵀ y‖ where y = M x and G maps the scalar
+    /// (P1 or P2) functions vanishing on the PEC boundary to their gradients in the edge
+    /// space: ∇φ_v = Σ_{edges (a,b) ∋ v} ±w_ab (+ when v = b), ∇(λaλb) = its own unknown.
+    /// For a true resonance (λ ≠ 0) Gᵀ M x = 0 exactly; a gradient field gives O(‖y‖).
+    pub fn gradient_residual(&self, topo: &Topology, y: &[f64]) -> f64 {
+        let mut node_sum = vec![0.0; self.vertex_free.len()];
+        let mut sum2 = 0.0;
+        for (e, &[a, b]) in topo.edges.iter().enumerate() {
+            let d = self.edge_dof[e];
+            if d == FIXED {
+                continue;
+            }
+            let w = y[d as usize];
+            node_sum[a as usize] -= w;
+            node_sum[b as usize] += w;
+            if self.order == NedelecOrder::Two {
+                let g = y[d as usize + 1];
+                sum2 += g * g;
+            }
+        }
+        for (v, s) in node_sum.iter().enumerate() {
+            if self.vertex_free[v] {
+                sum2 += s * s;
+            }
+        }
+        sum2.sqrt()
+    }
+}
