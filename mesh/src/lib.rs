@@ -7,6 +7,7 @@
 pub mod error;
 pub mod geometry;
 pub mod gmsh;
+pub mod make;
 pub mod material;
 pub mod mesher;
 pub mod quality;
@@ -15,5 +16,6 @@ pub mod tet_mesh;
 pub mod vtk;
 
 pub use geometry::Geometry;
+pub use make::make_mesh;
 pub use material::Material;
 pub use tet_mesh::{BoundaryTag, RegionInfo, TetMesh};

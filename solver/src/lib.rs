@@ -21,10 +21,12 @@ pub mod eigen;
 pub mod element;
 pub mod error;
 pub mod factor;
+pub mod field;
 pub mod topology;
 
 pub use error::SolverError;
 pub mod modes;
+pub mod problem;
 
 pub use element::NedelecOrder;
 pub use modes::{solve_modes, Mode, ModeSet, ModeSettings};
