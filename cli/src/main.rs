@@ -1,1 +1,73 @@
-fn main() {}
+//! `antinode`: resonant modes of microwave cavities from the command line.
+//!
+//! The binary is thin: it parses options, calls the `antinode-mesh` and `antinode-solver`
+//! libraries, and prints or writes what they return. Commands live in [`commands`], file
+//! and terminal formats in [`output`].
+
+mod budget;
+mod commands;
+mod output;
+mod progress;
+mod units;
+
+use clap::{Parser, Subcommand};
+use std::process::ExitCode;
+
+/// Shown at the end of `antinode --help` (design notes §7).
+const SAFETY: &str = "\
+SAFETY: antinode predicts fields in an idealised closed cavity. It does not measure or
+certify leakage, and a real oven's door seals, chokes and interlocks are outside its
+model. Microwave energy can cause deep burns; only qualified people should build or open
+high-power equipment. Follow local codes, the applicable product-safety standards and
+licensed practice.
+
+Units: geometry files use millimetres and GHz; written meshes and fields use metres and
+SI units (V/m, A/m).";
+
+/// Resonant modes of metal cavities with dielectric loads, for microwave-heating design
+/// around 2.45 GHz.
+#[derive(Parser)]
+#[command(name = "antinode", version, about, long_about = None, after_long_help = SAFETY)]
+#[command(propagate_version = true)]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand)]
+enum Command {
+    /// Mesh a geometry file into tetrahedra and report sizes, volumes and element quality.
+    ///
+    /// Writes DIR/mesh.vtu (tetrahedra with cell data "region": 0 = air, i = load i, and
+    /// "quality": normalised radius ratio, 1 = regular) and DIR/boundary.vtu (wall and port
+    /// triangles with cell data "tag": 0 = metal wall, i = port i). Coordinates in metres.
+    Mesh(commands::mesh::MeshArgs),
+    /// Find the resonant modes near the target frequency (or every mode in a band).
+    ///
+    /// Meshes the geometry, checks that the problem fits in memory, solves Maxwell's
+    /// eigenproblem with Nédélec edge elements and prints each mode's frequency, distance
+    /// from the target and residual, plus a band summary (count, Weyl's-law estimate,
+    /// distinct frequency groups, spacing). Writes DIR/modes.json, DIR/modes.csv and,
+    /// unless --no-fields, one DIR/mode_NNN.vtu per mode with a DIR/modes.pvd collection.
+    /// Walls and feed ports are treated as perfect conductors (lossless modes, no Q yet).
+    Modes(commands::modes::ModesArgs),
+    /// List the built-in materials with permittivity and loss at a frequency (metals:
+    /// conductivity and surface resistance), with the source of each value.
+    Materials(commands::materials::MaterialsArgs),
+}
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    let result = match cli.command {
+        Command::Mesh(a) => commands::mesh::run(&a),
+        Command::Modes(a) => commands::modes::run(&a),
+        Command::Materials(a) => commands::materials::run(&a),
+    };
+    match result {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(e) => {
+            eprintln!("error: {e:#}");
+            ExitCode::FAILURE
+        }
+    }
+}

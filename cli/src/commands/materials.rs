@@ -1,0 +1,85 @@
+//! `antinode materials`: the built-in material list at a frequency and temperature.
+
+use crate::units::MU0;
+use antinode_mesh::material::{self, Material, MaterialValues};
+use anyhow::{bail, Result};
+use clap::Args;
+
+#[derive(Args)]
+pub struct MaterialsArgs {
+    /// Frequency at which to evaluate permittivity and surface resistance, GHz.
+    #[arg(short = 'f', long, value_name = "GHZ", default_value_t = 2.45)]
+    pub frequency: f64,
+    /// Temperature of water, °C (0–100); other entries are fixed room-temperature values.
+    #[arg(short = 't', long, value_name = "C", default_value_t = material::WATER_DEFAULT_TEMPERATURE_C)]
+    pub temperature: f64,
+}
+
+pub fn run(args: &MaterialsArgs) -> Result<()> {
+    if !(args.frequency.is_finite() && args.frequency > 0.0) {
+        bail!(
+            "--frequency {} GHz must be a positive number",
+            args.frequency
+        );
+    }
+    let [tlo, thi] = material::WATER_TEMPERATURE_RANGE_C;
+    if !(args.temperature.is_finite() && (tlo..=thi).contains(&args.temperature)) {
+        bail!(
+            "--temperature {} °C is outside the water model's range {tlo}–{thi} °C",
+            args.temperature
+        );
+    }
+    let f_hz = args.frequency * 1e9;
+    let omega = 2.0 * std::f64::consts::PI * f_hz;
+    println!(
+        "Built-in materials at {} GHz (water at {} °C). Load materials use ε′, ε″ \
+         (εr = ε′ − jε″); wall metals use conductivity σ and surface resistance \
+         Rs = √(ωμ0/2σ).",
+        args.frequency, args.temperature
+    );
+    println!();
+    println!(
+        "{:<22} {:>10} {:>10} {:>10}   source",
+        "dielectric", "ε′", "ε″", "tan δ"
+    );
+    let list = material::builtin_list();
+    for e in &list {
+        if let MaterialValues::Dielectric(m) = &e.values {
+            let m = if e.name == "water" {
+                Material::water(args.temperature)
+            } else {
+                m.clone()
+            };
+            let (er, ei) = m.permittivity(f_hz);
+            let tand = if er != 0.0 { ei / er } else { f64::NAN };
+            println!(
+                "{:<22} {:>10.3} {:>10.4} {:>10.5}   {}",
+                e.name, er, ei, tand, e.source
+            );
+        }
+    }
+    println!();
+    println!(
+        "{:<22} {:>12} {:>12}   source",
+        "metal", "σ (S/m)", "Rs (mΩ)"
+    );
+    for e in &list {
+        if let MaterialValues::Metal { conductivity } = e.values {
+            let rs = (omega * MU0 / (2.0 * conductivity)).sqrt();
+            println!(
+                "{:<22} {:>12.4e} {:>12.3}   {}",
+                e.name,
+                conductivity,
+                rs * 1e3,
+                e.source
+            );
+        }
+    }
+    println!();
+    println!(
+        "Use a name in a geometry file (`material = \"water\"`, `walls = \"copper\"`), or give \
+         values: material = {{ permittivity = 4.0, loss_tangent = 0.01 }}, \
+         walls = {{ conductivity = 3.5e7 }}, walls = \"pec\"."
+    );
+    Ok(())
+}

@@ -1,0 +1,160 @@
+//! `antinode mesh`: geometry file → tetrahedral mesh, VTK files and a summary.
+
+use crate::progress::Spinner;
+use crate::units;
+use antinode_mesh::{mesher, quality, vtk, Geometry, TetMesh};
+use antinode_solver::dofmap::DofMap;
+use antinode_solver::topology::Topology;
+use antinode_solver::NedelecOrder;
+use anyhow::{Context, Result};
+use clap::Args;
+use std::path::PathBuf;
+use std::time::Instant;
+
+#[derive(Args)]
+pub struct MeshArgs {
+    /// Geometry file (TOML; lengths in mm, frequencies in GHz; see the README).
+    pub geometry: PathBuf,
+    /// Output folder [default: out/<geometry file name without .toml>].
+    #[arg(short = 'o', long = "out", value_name = "DIR")]
+    pub out: Option<PathBuf>,
+}
+
+/// Mesh size figures: counts of entities and free unknowns per element order.
+pub struct MeshCounts {
+    pub nodes: usize,
+    pub tets: usize,
+    pub edges: usize,
+    pub faces: usize,
+    /// Free unknowns (wall and port unknowns eliminated, as the solver does now).
+    pub unknowns_order1: usize,
+    pub unknowns_order2: usize,
+}
+
+/// Counts edges, faces and free unknowns of both orders (walls and ports as metal,
+/// matching the solver until port losses are implemented).
+pub fn count(mesh: &TetMesh) -> MeshCounts {
+    let topo = Topology::new(mesh);
+    let n1 = DofMap::new(&topo, mesh.nodes.len(), NedelecOrder::One, |_| true).n_dofs;
+    let n2 = DofMap::new(&topo, mesh.nodes.len(), NedelecOrder::Two, |_| true).n_dofs;
+    MeshCounts {
+        nodes: mesh.nodes.len(),
+        tets: mesh.tets.len(),
+        edges: topo.edges.len(),
+        faces: topo.faces.len(),
+        unknowns_order1: n1,
+        unknowns_order2: n2,
+    }
+}
+
+/// Meshes `geom` with a spinner; returns the mesh and the seconds taken.
+pub fn make(geom: &Geometry) -> Result<(TetMesh, f64)> {
+    let spinner = Spinner::start("meshing");
+    let t0 = Instant::now();
+    let mesh = antinode_mesh::make_mesh(geom);
+    spinner.finish();
+    let mesh = mesh.context("meshing failed")?;
+    Ok((mesh, t0.elapsed().as_secs_f64()))
+}
+
+pub fn run(args: &MeshArgs) -> Result<()> {
+    let t0 = Instant::now();
+    let geom = super::load_geometry(&args.geometry)?;
+    let sizes = mesher::element_sizes(&geom).context("mesh settings")?;
+    let (mesh, mesh_s) = make(&geom)?;
+    let counts = count(&mesh);
+    let q = quality::quality_report(&mesh);
+
+    let dir = super::output_dir(args.out.as_deref(), &args.geometry);
+    super::create_dir(&dir)?;
+    let quality_values = quality::tet_quality(&mesh);
+    let mesh_path = dir.join("mesh.vtu");
+    vtk::write_mesh_vtu(
+        &mesh_path,
+        &mesh,
+        &[vtk::DataArray::Scalars {
+            name: "quality",
+            values: &quality_values,
+        }],
+    )?;
+    let boundary_path = dir.join("boundary.vtu");
+    vtk::write_boundary_vtu(&boundary_path, &mesh)?;
+
+    println!("{}", geom.title);
+    println!(
+        "mesh: {} nodes, {} tetrahedra, {} edges, {} faces, {} boundary triangles",
+        counts.nodes,
+        counts.tets,
+        counts.edges,
+        counts.faces,
+        mesh.boundary.len()
+    );
+    println!(
+        "free unknowns (walls and ports metal): order 1: {} (edges not on the metal), order 2: {}",
+        counts.unknowns_order1, counts.unknowns_order2
+    );
+    println!(
+        "element size target: {} per local wavelength at {} GHz, at most {} mm",
+        geom.mesh.per_wavelength, geom.solve.target, geom.mesh.max_size
+    );
+    let vols = mesh.region_volumes();
+    println!(
+        "  {:<20} {:>14} {:>14} {:>8} {:>12} {:>11}",
+        "region", "meshed volume", "nominal", "eps'", "wavelength", "size"
+    );
+    for (id, info) in mesh.regions.iter().enumerate() {
+        let nominal = if id == 0 {
+            let loads: f64 = geom
+                .loads
+                .iter()
+                .filter_map(|l| l.shape.map(|s| s.volume()))
+                .sum();
+            Some(geom.cavity.shape.volume() - loads)
+        } else {
+            geom.loads
+                .get(id - 1)
+                .and_then(|l| l.shape.map(|s| s.volume()))
+        };
+        let nominal = nominal
+            .map(|mm3| units::volume(mm3 * 1e-9))
+            .unwrap_or_else(|| "-".into());
+        let (eps, wl, size) = match sizes.get(id) {
+            Some(s) => (
+                format!("{:.2}", s.eps_real),
+                format!("{:.1} mm", s.wavelength_mm),
+                format!("{:.2} mm", s.size_mm),
+            ),
+            None => ("-".into(), "-".into(), "-".into()),
+        };
+        println!(
+            "  {:<20} {:>14} {:>14} {:>8} {:>12} {:>11}",
+            info.name,
+            units::volume(vols.get(id).copied().unwrap_or(0.0)),
+            nominal,
+            eps,
+            wl,
+            size
+        );
+    }
+    println!(
+        "quality: dihedral angles {:.1}° to {:.1}°, radius ratio min {:.3} mean {:.3}, \
+         {} poor ({})",
+        q.min_dihedral_deg,
+        q.max_dihedral_deg,
+        q.min_radius_ratio,
+        q.mean_radius_ratio,
+        q.poor_count,
+        q.poor_threshold
+    );
+    println!(
+        "wrote {} and {}",
+        mesh_path.display(),
+        boundary_path.display()
+    );
+    println!(
+        "time: meshing {:.2} s, total {:.2} s",
+        mesh_s,
+        t0.elapsed().as_secs_f64()
+    );
+    Ok(())
+}
