@@ -29,6 +29,8 @@ pub struct DofMap {
     /// Vertices not on the constrained boundary (their hat functions' gradients are in
     /// the discrete kernel of the curl).
     pub vertex_free: Vec<bool>,
+    /// Edges lying on a boundary face that is not PEC (a port aperture).
+    pub edge_open: Vec<bool>,
 }
 
 impl DofMap {
@@ -42,14 +44,25 @@ impl DofMap {
         let mut edge_fixed = vec![false; topo.edges.len()];
         let mut face_fixed = vec![false; topo.faces.len()];
         let mut vertex_free = vec![true; n_nodes];
+        let mut edge_open = vec![false; topo.edges.len()];
         for (fi, tag) in topo.face_tag.iter().enumerate() {
             if let Some(tag) = tag {
+                // Vertices on any boundary carry scalar functions whose gradients are not
+                // in the constrained space (PEC walls, or the port's TE10 constraint).
+                for v in topo.faces[fi] {
+                    vertex_free[v as usize] = false;
+                }
+                if !is_pec(*tag) {
+                    let [a, b, c] = topo.faces[fi];
+                    for (p, q) in [(a, b), (a, c), (b, c)] {
+                        if let Ok(e) = topo.edges.binary_search(&[p, q]) {
+                            edge_open[e] = true;
+                        }
+                    }
+                }
                 if is_pec(*tag) {
                     face_fixed[fi] = true;
                     let [a, b, c] = topo.faces[fi];
-                    for v in [a, b, c] {
-                        vertex_free[v as usize] = false;
-                    }
                     for (p, q) in [(a, b), (a, c), (b, c)] {
                         if let Ok(e) = topo.edges.binary_search(&[p, q]) {
                             edge_fixed[e] = true;
@@ -118,6 +131,7 @@ impl DofMap {
             edge_dof,
             face_dof,
             vertex_free,
+            edge_open,
         }
     }
 
@@ -130,6 +144,8 @@ impl DofMap {
     /// (P1 or P2) functions vanishing on the PEC boundary to their gradients in the edge
     /// space: ∇φ_v = Σ_{edges (a,b) ∋ v} ±w_ab (+ when v = b), ∇(λaλb) = its own unknown.
     /// For a true resonance (λ ≠ 0) Gᵀ M x = 0 exactly; a gradient field gives O(‖y‖).
+    /// Only scalar functions vanishing on the whole boundary are used, so the check also
+    /// holds with port apertures (whose tangential field is constrained).
     pub fn gradient_residual(&self, topo: &Topology, y: &[f64]) -> f64 {
         let mut node_sum = vec![0.0; self.vertex_free.len()];
         let mut sum2 = 0.0;
@@ -141,7 +157,7 @@ impl DofMap {
             let w = y[d as usize];
             node_sum[a as usize] -= w;
             node_sum[b as usize] += w;
-            if self.order == NedelecOrder::Two {
+            if self.order == NedelecOrder::Two && !self.edge_open[e] {
                 let g = y[d as usize + 1];
                 sum2 += g * g;
             }

@@ -14,6 +14,7 @@
 //!
 //! This crate knows nothing of files or terminals.
 
+pub mod arnoldi;
 pub mod assembly;
 pub mod barycentric;
 pub mod dofmap;
@@ -25,7 +26,9 @@ pub mod field;
 pub mod topology;
 
 pub use error::SolverError;
+pub mod losses;
 pub mod modes;
+pub mod port;
 pub mod problem;
 
 pub use element::NedelecOrder;

@@ -1,8 +1,20 @@
-//! Resonant modes of a (lossless) cavity: the library entry point.
+//! Resonant modes of a cavity: the library entry point.
 //!
-//! Pipeline: topology → unknown numbering with PEC elimination → assembly of K and M′ →
-//! factorisation of K − σM′ with σ = k0²(target) → restarted block eigen iteration on
-//! (K − σM′)⁻¹M′ → checks. Each returned mode carries
+//! Pipeline: topology → unknown numbering with PEC elimination → assembly of K, M′, M″ →
+//! port constraints (TE10 apertures, [`crate::port`]) → factorisation of the shifted
+//! operator at σ = k0²(target) → restarted block eigen iteration → checks → losses.
+//!
+//! * Lossless cavity without ports: K x = λ M′ x is real symmetric; the M-symmetric
+//!   iteration of [`crate::eigen`] runs on (K − σM′)⁻¹M′.
+//! * Lossy loads (ε″ > 0) or ports: (K + jβP) x = λ (M′ − jM″) x is complex symmetric;
+//!   A = K + jβP − σ(M′ − jM″) is factorised through the equivalent real symmetric system
+//!   [[Ar, −Ai], [−Ai, −Ar]] (A = Ar + jAi; x = xr + j xi ↔ [xr; xi], right-hand side
+//!   [br; −bi]) and the general iteration of [`crate::arnoldi`] runs on A⁻¹M. β is taken
+//!   at the target and refined per mode by first-order perturbation,
+//!   δλ = j Σ_p Δβ_p N_p c_p² / (xᵀ M x) (left eigenvector = x for a complex symmetric
+//!   pencil), iterated to a fixed point.
+//!
+//! Each returned mode carries
 //!
 //! * k0² and f = c k0 / 2π,
 //! * its relative residual ‖Kx − λMx‖ / (‖K‖‖x‖ + |λ|‖M‖‖x‖) (‖·‖ of a matrix: largest
@@ -11,15 +23,18 @@
 //!   zero for a true resonance and O(1) for a gradient (spurious, zero-frequency) field.
 //!   Fields with a figure above [`SPURIOUS_DIVERGENCE`] are dropped and counted.
 
+use crate::arnoldi::{self, ComplexOperator};
 use crate::assembly::{assemble, spmv, RegionMaterial, SparseMatrix, SystemMatrices};
 use crate::dofmap::DofMap;
 use crate::eigen::{self, EigenOptions, EigenProgress, ShiftInvertOperator, Wanted};
 use crate::element::NedelecOrder;
 use crate::error::SolverError;
 use crate::factor::{FactorKind, SymmetricFactor};
+use crate::losses::{mode_integrals, mode_q, ModeIntegrals, ModeQ, PortPower};
+use crate::port::{port_constraint, PortConstraint, PortFrame, Reduction};
 use crate::topology::Topology;
 use antinode_mesh::{BoundaryTag, TetMesh};
-use faer::{MatMut, MatRef, Par};
+use faer::{c64, Mat, MatMut, MatRef, Par};
 use std::time::Instant;
 
 /// Speed of light in vacuum, m/s (exact, SI).
@@ -56,10 +71,15 @@ pub struct ModeSettings {
     pub eigen: EigenOptions,
     /// Largest number of modes a band solve may return.
     pub max_modes: usize,
+    /// Wall conductivity (S/m) for the wall Q; None = PEC (no wall loss).
+    pub wall_conductivity: Option<f64>,
+    /// Feed ports (matched TE10 apertures); their faces are PEC when this is empty.
+    pub ports: Vec<PortFrame>,
 }
 
 impl ModeSettings {
-    /// Defaults for a target frequency: order 2, 20 modes, LDLᵀ with one refinement step.
+    /// Defaults for a target frequency: order 2, 20 modes, LDLᵀ with one refinement step,
+    /// PEC walls, no ports.
     pub fn new(target_hz: f64) -> Self {
         Self {
             order: NedelecOrder::Two,
@@ -70,6 +90,8 @@ impl ModeSettings {
             refine: 1,
             eigen: EigenOptions::default(),
             max_modes: 400,
+            wall_conductivity: None,
+            ports: Vec::new(),
         }
     }
 }
@@ -87,17 +109,31 @@ pub enum Stage {
 /// One resonant mode.
 #[derive(Clone, Debug)]
 pub struct Mode {
-    /// k0² = (ω/c)², m⁻².
+    /// Re k0², m⁻² (k0 = ω/c).
     pub k0_squared: f64,
-    /// Resonant frequency, Hz.
+    /// Im k0² (> 0 for a decaying mode with the e^{jωt} convention; 0 when lossless).
+    pub k0_squared_imag: f64,
+    /// Resonant frequency Re f, Hz.
     pub frequency_hz: f64,
-    /// Relative residual of K x = λ M x.
+    /// Im f, Hz (decay rate / 2π).
+    pub frequency_imag_hz: f64,
+    /// Q from the complex eigenvalue, Re f/(2 Im f) (loads and ports; infinite when
+    /// lossless). Wall losses are added by perturbation in `q`.
+    pub q_eigen: f64,
+    /// Relative residual of the (linear, β at target) discrete eigenproblem.
     pub residual: f64,
     /// Divergence figure ‖Gᵀ M x‖ / ‖M x‖.
     pub divergence: f64,
-    /// Coefficients of E in the Nédélec basis, normalised to xᵀ M′ x = 1 m³
-    /// (i.e. ∫ ε′ |E|² dV = 1 with E in V/m and lengths in m).
+    /// Real part of the coefficients of E over the free unknowns, normalised to
+    /// ∫ ε′ |E|² dV = 1 m³ (E in V/m, lengths in m), phase chosen so that the largest
+    /// coefficient is real.
     pub coefficients: Vec<f64>,
+    /// Imaginary part of the coefficients (empty when the mode is real).
+    pub coefficients_imag: Vec<f64>,
+    /// Field integrals (per-region ∫|E|², wall ∮|n×∇×E|²).
+    pub integrals: ModeIntegrals,
+    /// Q parts and power split.
+    pub q: ModeQ,
 }
 
 /// The discrete problem a mode set was computed on (needed to evaluate fields).
@@ -105,12 +141,17 @@ pub struct Discretization {
     pub topology: Topology,
     pub dofs: DofMap,
     pub matrices: SystemMatrices,
+    /// TE10 constraints of the ports (None without ports).
+    pub ports: Option<PortConstraint>,
 }
 
 /// Figures of one solve.
 #[derive(Clone, Debug, Default)]
 pub struct SolveStats {
+    /// Unknowns of the eigenproblem (after port constraints).
     pub n_dofs: usize,
+    /// Whether the complex (lossy or fed) path was used.
+    pub complex: bool,
     pub matrix_nnz: usize,
     pub factor_nnz: usize,
     pub assembly_s: f64,
@@ -170,42 +211,144 @@ impl ShiftInvertOperator for RealShiftInvert<'_> {
     }
 }
 
-/// A − σB for two matrices with the same pattern.
-fn shifted(a: &SparseMatrix, b: &SparseMatrix, sigma: f64) -> SparseMatrix {
-    debug_assert_eq!(a.indices(), b.indices());
-    let data: Vec<f64> = a
-        .data()
-        .iter()
-        .zip(b.data())
-        .map(|(x, y)| x - sigma * y)
-        .collect();
-    SparseMatrix::new(
-        a.shape(),
-        a.indptr().into_raw_storage().to_vec(),
-        a.indices().to_vec(),
-        data,
-    )
+/// Σ c_i A_i on the union of the patterns (rows merged in sorted order).
+pub fn combine(terms: &[(f64, &SparseMatrix)]) -> SparseMatrix {
+    let (rows, cols) = terms[0].1.shape();
+    let mut indptr = Vec::with_capacity(rows + 1);
+    indptr.push(0u32);
+    let mut indices: Vec<u32> = Vec::new();
+    let mut data: Vec<f64> = Vec::new();
+    let mut row: Vec<(u32, f64)> = Vec::new();
+    for r in 0..rows {
+        row.clear();
+        for &(c, a) in terms {
+            if let Some(v) = a.outer_view(r) {
+                row.extend(v.iter().map(|(j, &x)| (j as u32, c * x)));
+            }
+        }
+        row.sort_unstable_by_key(|e| e.0);
+        let mut k = 0;
+        while k < row.len() {
+            let (j, mut v) = row[k];
+            k += 1;
+            while k < row.len() && row[k].0 == j {
+                v += row[k].1;
+                k += 1;
+            }
+            indices.push(j);
+            data.push(v);
+        }
+        indptr.push(indices.len() as u32);
+    }
+    SparseMatrix::new((rows, cols), indptr, indices, data)
 }
 
-/// Discretise `mesh` (PEC on walls and, for now, on ports) with region `materials`.
-pub fn discretize(
-    mesh: &TetMesh,
-    materials: &[RegionMaterial],
-    order: NedelecOrder,
-) -> Discretization {
-    let topology = Topology::new(mesh);
-    let dofs = DofMap::new(&topology, mesh.nodes.len(), order, |tag| {
-        matches!(tag, BoundaryTag::Wall | BoundaryTag::Port(_))
-    });
-    let matrices = assemble(mesh, &topology, &dofs, materials);
-    Discretization {
-        topology,
-        dofs,
-        matrices,
+/// Diagonal matrix with the given (index, value) entries.
+fn diagonal(n: usize, entries: &[(usize, f64)]) -> SparseMatrix {
+    let mut tri = sprs::TriMatI::<f64, u32>::new((n, n));
+    for &(i, v) in entries {
+        tri.add_triplet(i, i, v);
+    }
+    tri.to_csr()
+}
+
+/// The real symmetric 2n × 2n form [[Ar, −Ai], [−Ai, −Ar]] of A = Ar + jAi
+/// (Ar and Ai on one pattern).
+fn real_form(ar: &SparseMatrix, ai: &SparseMatrix) -> SparseMatrix {
+    let n = ar.rows();
+    let mut indptr = Vec::with_capacity(2 * n + 1);
+    indptr.push(0u32);
+    let mut indices = Vec::with_capacity(4 * ar.nnz());
+    let mut data = Vec::with_capacity(4 * ar.nnz());
+    for half in 0..2 {
+        for r in 0..n {
+            let (first, second, s1, s2) = if half == 0 {
+                (ar, ai, 1.0, -1.0)
+            } else {
+                (ai, ar, -1.0, -1.0)
+            };
+            if let Some(v) = first.outer_view(r) {
+                for (j, &x) in v.iter() {
+                    indices.push(j as u32);
+                    data.push(s1 * x);
+                }
+            }
+            if let Some(v) = second.outer_view(r) {
+                for (j, &x) in v.iter() {
+                    indices.push((n + j) as u32);
+                    data.push(s2 * x);
+                }
+            }
+            indptr.push(indices.len() as u32);
+        }
+    }
+    SparseMatrix::new((2 * n, 2 * n), indptr, indices, data)
+}
+
+/// (K + jβP − σ(M′ − jM″))⁻¹ (M′ − jM″) through the real 2n form.
+struct ComplexShiftInvert<'a> {
+    big: SparseMatrix,
+    factor: SymmetricFactor,
+    m_re: &'a SparseMatrix,
+    m_im: Option<&'a SparseMatrix>,
+    refine: usize,
+}
+
+impl ComplexOperator for ComplexShiftInvert<'_> {
+    fn dim(&self) -> usize {
+        self.m_re.rows()
+    }
+    fn apply(&self, x: MatRef<'_, c64>, mut y: MatMut<'_, c64>) {
+        let n = self.dim();
+        let k = x.ncols();
+        let mut rhs = Mat::<f64>::zeros(2 * n, k);
+        let mut xr = vec![0.0; n];
+        let mut xi = vec![0.0; n];
+        let mut t = vec![0.0; n];
+        for j in 0..k {
+            for i in 0..n {
+                xr[i] = x[(i, j)].re;
+                xi[i] = x[(i, j)].im;
+            }
+            // b = (M′ − jM″)(xr + j xi): br = M′xr + M″xi, bi = M′xi − M″xr; rhs [br; −bi].
+            spmv(self.m_re, &xr, &mut t);
+            for i in 0..n {
+                rhs[(i, j)] = t[i];
+            }
+            spmv(self.m_re, &xi, &mut t);
+            for i in 0..n {
+                rhs[(n + i, j)] = -t[i];
+            }
+            if let Some(mi) = self.m_im {
+                spmv(mi, &xi, &mut t);
+                for i in 0..n {
+                    rhs[(i, j)] += t[i];
+                }
+                spmv(mi, &xr, &mut t);
+                for i in 0..n {
+                    rhs[(n + i, j)] += t[i];
+                }
+            }
+        }
+        self.factor
+            .solve_refined(&self.big, rhs.as_mut(), self.refine);
+        for j in 0..k {
+            for i in 0..n {
+                y[(i, j)] = c64::new(rhs[(i, j)], rhs[(n + i, j)]);
+            }
+        }
     }
 }
 
-/// Find the resonant modes of a lossless cavity (ε″ is ignored here).
+/// A computed eigenpair before post-processing (reduced unknowns).
+struct RawMode {
+    lambda: c64,
+    re: Vec<f64>,
+    im: Vec<f64>,
+    residual: f64,
+}
+
+/// Find the resonant modes of a cavity with its loads, walls and ports.
 pub fn solve_modes(
     mesh: &TetMesh,
     materials: &[RegionMaterial],
@@ -228,9 +371,16 @@ pub fn solve_modes(
     progress(Stage::Topology);
     let t0 = Instant::now();
     let topology = Topology::new(mesh);
-    let dofs = DofMap::new(&topology, mesh.nodes.len(), settings.order, |tag| {
-        matches!(tag, BoundaryTag::Wall | BoundaryTag::Port(_))
-    });
+    let n_ports = settings.ports.len();
+    let dofs = DofMap::new(
+        &topology,
+        mesh.nodes.len(),
+        settings.order,
+        |tag| match tag {
+            BoundaryTag::Wall => true,
+            BoundaryTag::Port(p) => p >= n_ports,
+        },
+    );
     if dofs.n_dofs == 0 {
         return Err(SolverError::NoUnknowns);
     }
@@ -238,25 +388,29 @@ pub fn solve_modes(
         n_dofs: dofs.n_dofs,
     });
     let matrices = assemble(mesh, &topology, &dofs, materials);
+    let constraint =
+        (n_ports > 0).then(|| port_constraint(mesh, &topology, &dofs, &settings.ports));
+    let reduction = constraint.as_ref().map(|c| Reduction::new(dofs.n_dofs, c));
+    let reduced = reduction.as_ref().map(|r| SystemMatrices {
+        stiffness: r.reduce(&matrices.stiffness),
+        mass_real: r.reduce(&matrices.mass_real),
+        mass_imag: matrices.mass_imag.as_ref().map(|m| r.reduce(m)),
+    });
+    let sys = reduced.as_ref().unwrap_or(&matrices);
     let assembly_s = t0.elapsed().as_secs_f64();
     let sigma = k0_squared(settings.target_hz);
-    let nnz = matrices.stiffness.nnz();
-    progress(Stage::Factorization {
-        n_dofs: dofs.n_dofs,
-        nnz,
-    });
-    let t1 = Instant::now();
-    let a = shifted(&matrices.stiffness, &matrices.mass_real, sigma);
-    let par = Par::rayon(0);
-    let factor = SymmetricFactor::new(&a, settings.factor, par)?;
-    let factor_s = t1.elapsed().as_secs_f64();
-    let factor_nnz = factor.factor_nnz();
-    let op = RealShiftInvert {
-        shifted: a,
-        factor,
-        mass: &matrices.mass_real,
-        refine: settings.refine,
-    };
+    let k_target = sigma.sqrt();
+    let n = sys.stiffness.rows();
+    let nnz = sys.stiffness.nnz();
+    let complex = sys.mass_imag.is_some() || n_ports > 0;
+    // Port terms jβ_p N_p on the amplitude unknowns (β at the target).
+    let port_base = reduction.as_ref().map_or(n, |r| r.port_base);
+    let port_norm: Vec<f64> = constraint.as_ref().map_or(Vec::new(), |c| c.norm.clone());
+    let jbeta: Vec<c64> = settings
+        .ports
+        .iter()
+        .map(|f| c64::new(0.0, 1.0) * f.beta(k_target))
+        .collect();
 
     let theta_min = settings.band_hz.map(|[lo, hi]| {
         let r = (k0_squared(hi) - sigma)
@@ -269,58 +423,307 @@ pub fn solve_modes(
         theta_min,
         max: settings.max_modes,
     };
-    let t2 = Instant::now();
-    let ritz = eigen::solve(&op, wanted, &settings.eigen, &mut |p| {
-        progress(Stage::Eigen(p))
-    })?;
-    let eigen_s = t2.elapsed().as_secs_f64();
+    let par = Par::rayon(0);
+    progress(Stage::Factorization { n_dofs: n, nnz });
+    let k_norm = row_sum_norm(&sys.stiffness);
+    let m_norm = row_sum_norm(&sys.mass_real) + sys.mass_imag.as_ref().map_or(0.0, row_sum_norm);
+
+    let (raw, factor_s, eigen_s, factor_nnz, applications, restarts) = if !complex {
+        let t1 = Instant::now();
+        let a = combine(&[(1.0, &sys.stiffness), (-sigma, &sys.mass_real)]);
+        let factor = SymmetricFactor::new(&a, settings.factor, par)?;
+        let factor_s = t1.elapsed().as_secs_f64();
+        let factor_nnz = factor.factor_nnz();
+        let op = RealShiftInvert {
+            shifted: a,
+            factor,
+            mass: &sys.mass_real,
+            refine: settings.refine,
+        };
+        let t2 = Instant::now();
+        let ritz = eigen::solve(&op, wanted, &settings.eigen, &mut |p| {
+            progress(Stage::Eigen(p))
+        })?;
+        let eigen_s = t2.elapsed().as_secs_f64();
+        let mut kx = vec![0.0; n];
+        let mut mx = vec![0.0; n];
+        let raw: Vec<RawMode> = ritz
+            .theta
+            .iter()
+            .enumerate()
+            .map(|(j, &theta)| {
+                let lambda = sigma + 1.0 / theta;
+                let x = col(ritz.vectors.as_ref(), j);
+                spmv(&sys.stiffness, x, &mut kx);
+                spmv(&sys.mass_real, x, &mut mx);
+                let r = kx
+                    .iter()
+                    .zip(&mx)
+                    .map(|(k, m)| (k - lambda * m).powi(2))
+                    .sum::<f64>()
+                    .sqrt();
+                let residual = r / ((k_norm + lambda.abs() * m_norm) * norm(x));
+                RawMode {
+                    lambda: c64::new(lambda, 0.0),
+                    re: x.to_vec(),
+                    im: Vec::new(),
+                    residual,
+                }
+            })
+            .collect();
+        (
+            raw,
+            factor_s,
+            eigen_s,
+            factor_nnz,
+            ritz.applications,
+            ritz.restarts,
+        )
+    } else {
+        let t1 = Instant::now();
+        let port_diag = |part: fn(c64) -> f64| -> SparseMatrix {
+            let entries: Vec<(usize, f64)> = (0..n_ports)
+                .map(|p| (port_base + p, part(jbeta[p]) * port_norm[p]))
+                .collect();
+            diagonal(n, &entries)
+        };
+        let p_re = port_diag(|z| z.re);
+        let p_im = port_diag(|z| z.im);
+        let mut re_terms = vec![
+            (1.0, &sys.stiffness),
+            (-sigma, &sys.mass_real),
+            (1.0, &p_re),
+        ];
+        let mut im_terms = vec![(0.0, &sys.stiffness), (1.0, &p_im)];
+        if let Some(mi) = &sys.mass_imag {
+            im_terms.push((sigma, mi));
+            re_terms.push((0.0, mi));
+        }
+        // Both parts on one pattern (the union), as the real 2n form requires.
+        let all: Vec<(f64, &SparseMatrix)> = re_terms
+            .iter()
+            .chain(&im_terms)
+            .map(|&(_, m)| (0.0, m))
+            .collect();
+        let pattern = combine(&all);
+        let with_pattern = |terms: &[(f64, &SparseMatrix)]| {
+            let mut t = terms.to_vec();
+            t.push((0.0, &pattern));
+            combine(&t)
+        };
+        let ar = with_pattern(&re_terms);
+        let ai = with_pattern(&im_terms);
+        let big = real_form(&ar, &ai);
+        let factor = SymmetricFactor::new(&big, settings.factor, par)?;
+        let factor_s = t1.elapsed().as_secs_f64();
+        let factor_nnz = factor.factor_nnz();
+        let op = ComplexShiftInvert {
+            big,
+            factor,
+            m_re: &sys.mass_real,
+            m_im: sys.mass_imag.as_ref(),
+            refine: settings.refine,
+        };
+        let t2 = Instant::now();
+        let ritz = arnoldi::solve(&op, wanted, &settings.eigen, &mut |p| {
+            progress(Stage::Eigen(p))
+        })?;
+        let eigen_s = t2.elapsed().as_secs_f64();
+        let raw: Vec<RawMode> = ritz
+            .theta
+            .iter()
+            .enumerate()
+            .map(|(j, &theta)| {
+                let lambda = c64::new(sigma, 0.0) + c64::new(1.0, 0.0) / theta;
+                let re: Vec<f64> = (0..n).map(|i| ritz.vectors[(i, j)].re).collect();
+                let im: Vec<f64> = (0..n).map(|i| ritz.vectors[(i, j)].im).collect();
+                let residual = complex_residual(
+                    &ar,
+                    &ai,
+                    &sys.mass_real,
+                    sys.mass_imag.as_ref(),
+                    sigma,
+                    lambda,
+                    &re,
+                    &im,
+                ) / ((k_norm
+                    + jbeta
+                        .iter()
+                        .zip(&port_norm)
+                        .map(|(b, nn)| b.norm() * nn)
+                        .fold(0.0, f64::max)
+                    + lambda.norm() * m_norm)
+                    * (norm(&re).powi(2) + norm(&im).powi(2)).sqrt());
+                RawMode {
+                    lambda,
+                    re,
+                    im,
+                    residual,
+                }
+            })
+            .collect();
+        (
+            raw,
+            factor_s,
+            eigen_s,
+            factor_nnz,
+            ritz.applications,
+            ritz.restarts,
+        )
+    };
 
     progress(Stage::Checks);
-    let k_norm = row_sum_norm(&matrices.stiffness);
-    let m_norm = row_sum_norm(&matrices.mass_real);
-    let n = dofs.n_dofs;
-    let mut modes = Vec::new();
+    let mut kept = Vec::new();
     let mut spurious = 0;
-    let mut kx = vec![0.0; n];
-    let mut mx = vec![0.0; n];
-    for (j, &theta) in ritz.theta.iter().enumerate() {
-        let lambda = sigma + 1.0 / theta;
-        let x = col(ritz.vectors.as_ref(), j);
-        spmv(&matrices.stiffness, x, &mut kx);
-        spmv(&matrices.mass_real, x, &mut mx);
-        let xn = norm(x);
-        let r: f64 = kx
-            .iter()
-            .zip(&mx)
-            .map(|(k, m)| (k - lambda * m).powi(2))
-            .sum::<f64>()
-            .sqrt();
-        let residual = r / ((k_norm + lambda.abs() * m_norm) * xn);
-        let divergence = dofs.gradient_residual(&topology, &mx) / norm(&mx);
-        if divergence > SPURIOUS_DIVERGENCE || lambda <= 0.0 {
+    let nf = dofs.n_dofs;
+    let mut t = vec![0.0; nf];
+    for mut m in raw {
+        // β refinement per mode (first-order perturbation, iterated).
+        let mut amp: Vec<c64> = (0..n_ports)
+            .map(|p| {
+                c64::new(
+                    m.re[port_base + p],
+                    m.im.get(port_base + p).copied().unwrap_or(0.0),
+                )
+            })
+            .collect();
+        let (mut xr, mut xi) = match &reduction {
+            Some(r) => (
+                r.expand(&m.re),
+                if m.im.is_empty() {
+                    Vec::new()
+                } else {
+                    r.expand(&m.im)
+                },
+            ),
+            None => (std::mem::take(&mut m.re), std::mem::take(&mut m.im)),
+        };
+        if n_ports > 0 {
+            let xmx = bilinear_mass(&matrices, &xr, &xi);
+            let lambda0 = m.lambda;
+            let mut lambda = lambda0;
+            for _ in 0..6 {
+                let k = lambda.sqrt().re;
+                let mut d = c64::new(0.0, 0.0);
+                for (p, f) in settings.ports.iter().enumerate() {
+                    let dbeta = f.beta(k) - f.beta(k_target);
+                    d += c64::new(0.0, 1.0) * dbeta * port_norm[p] * amp[p] * amp[p];
+                }
+                lambda = lambda0 + d / xmx;
+            }
+            m.lambda = lambda;
+        }
+        // Divergence: Gᵀ M x with M = M′ − jM″ on the full unknowns.
+        let (yr, yi) = mass_apply(&matrices, &xr, &xi, &mut t);
+        let div = (dofs.gradient_residual(&topology, &yr).powi(2)
+            + if yi.is_empty() {
+                0.0
+            } else {
+                dofs.gradient_residual(&topology, &yi).powi(2)
+            })
+        .sqrt()
+            / (norm(&yr).powi(2) + norm(&yi).powi(2)).sqrt();
+        if div > SPURIOUS_DIVERGENCE || m.lambda.re <= 0.0 {
             spurious += 1;
             continue;
         }
-        modes.push(Mode {
-            k0_squared: lambda,
-            frequency_hz: frequency_of(lambda),
-            residual,
-            divergence,
-            coefficients: x.to_vec(),
-        });
+        // Normalise ∫ε′|E|² = 1 and make the largest coefficient real.
+        let mut e2 = quad(&matrices.mass_real, &xr, &mut t);
+        if !xi.is_empty() {
+            e2 += quad(&matrices.mass_real, &xi, &mut t);
+        }
+        let scale = 1.0 / e2.sqrt();
+        let (imax, _) = (0..nf)
+            .map(|i| (i, xr[i].hypot(xi.get(i).copied().unwrap_or(0.0))))
+            .fold((0, -1.0), |a, b| if b.1 > a.1 { b } else { a });
+        let phase = if xi.is_empty() {
+            c64::new(scale.copysign(xr[imax]), 0.0)
+        } else {
+            let z = c64::new(xr[imax], xi[imax]);
+            z.conj() / z.norm() * scale
+        };
+        if !xi.is_empty() {
+            for i in 0..nf {
+                let z = c64::new(xr[i], xi[i]) * phase;
+                xr[i] = z.re;
+                xi[i] = z.im;
+            }
+            for a in amp.iter_mut() {
+                *a *= phase;
+            }
+        } else {
+            for v in xr.iter_mut() {
+                *v *= phase.re;
+            }
+            for a in amp.iter_mut() {
+                *a *= phase.re;
+            }
+        }
+        let k = m.lambda.sqrt();
+        let f = k * (C0 / (2.0 * std::f64::consts::PI));
+        let q_eigen = if f.im > 0.0 {
+            f.re / (2.0 * f.im)
+        } else {
+            f64::INFINITY
+        };
+        kept.push((m.lambda, f, q_eigen, m.residual, div, xr, xi, amp));
     }
-    modes.sort_by(|a, b| a.k0_squared.total_cmp(&b.k0_squared));
+    let inputs: Vec<(&[f64], &[f64])> = kept
+        .iter()
+        .map(|k| (k.5.as_slice(), k.6.as_slice()))
+        .collect();
+    let integrals = mode_integrals(mesh, &topology, &dofs, &inputs);
+    let mut modes: Vec<Mode> = kept
+        .into_iter()
+        .zip(integrals)
+        .map(
+            |((lambda, f, q_eigen, residual, divergence, xr, xi, amp), integrals)| {
+                let ports: Vec<PortPower> = settings
+                    .ports
+                    .iter()
+                    .enumerate()
+                    .map(|(p, fr)| PortPower {
+                        amplitude2_norm: amp[p].norm_sqr() * port_norm[p],
+                        beta: fr.beta(f.re * 2.0 * std::f64::consts::PI / C0).re,
+                    })
+                    .collect();
+                let q = mode_q(
+                    f.re,
+                    &integrals,
+                    materials,
+                    settings.wall_conductivity,
+                    &ports,
+                );
+                Mode {
+                    k0_squared: lambda.re,
+                    k0_squared_imag: lambda.im,
+                    frequency_hz: f.re,
+                    frequency_imag_hz: f.im,
+                    q_eigen,
+                    residual,
+                    divergence,
+                    coefficients: xr,
+                    coefficients_imag: xi,
+                    integrals,
+                    q,
+                }
+            },
+        )
+        .collect();
+    modes.sort_by(|a, b| a.frequency_hz.total_cmp(&b.frequency_hz));
     let stats = SolveStats {
         n_dofs: n,
+        complex,
         matrix_nnz: nnz,
         factor_nnz,
         assembly_s,
         factor_s,
         eigen_s,
-        applications: ritz.applications,
-        restarts: ritz.restarts,
+        applications,
+        restarts,
         spurious_dropped: spurious,
     };
+    drop(reduced);
     Ok(ModeSet {
         modes,
         stats,
@@ -328,8 +731,103 @@ pub fn solve_modes(
             topology,
             dofs,
             matrices,
+            ports: constraint,
         },
     })
+}
+
+/// ‖(Ar + jAi + σ(M′ − jM″)) x − λ(M′ − jM″) x‖ = ‖(K + jβP) x − λ M x‖.
+#[allow(clippy::too_many_arguments)]
+fn complex_residual(
+    ar: &SparseMatrix,
+    ai: &SparseMatrix,
+    m_re: &SparseMatrix,
+    m_im: Option<&SparseMatrix>,
+    sigma: f64,
+    lambda: c64,
+    xr: &[f64],
+    xi: &[f64],
+) -> f64 {
+    let n = xr.len();
+    let mut t = vec![0.0; n];
+    let apply = |a: &SparseMatrix, x: &[f64], t: &mut Vec<f64>| {
+        spmv(a, x, t);
+        t.clone()
+    };
+    // A x with A = Ar + jAi.
+    let ar_xr = apply(ar, xr, &mut t);
+    let ar_xi = apply(ar, xi, &mut t);
+    let ai_xr = apply(ai, xr, &mut t);
+    let ai_xi = apply(ai, xi, &mut t);
+    // M x with M = M′ − jM″.
+    let mut m_r = apply(m_re, xr, &mut t);
+    let mut m_i = apply(m_re, xi, &mut t);
+    if let Some(mi) = m_im {
+        let a = apply(mi, xi, &mut t);
+        let b = apply(mi, xr, &mut t);
+        for i in 0..n {
+            m_r[i] += a[i];
+            m_i[i] -= b[i];
+        }
+    }
+    // (A + σM − λM) x = A x − (λ − σ) M x.
+    let mu = lambda - c64::new(sigma, 0.0);
+    let mut s = 0.0;
+    for i in 0..n {
+        let ax = c64::new(ar_xr[i] - ai_xi[i], ar_xi[i] + ai_xr[i]);
+        let mx = c64::new(m_r[i], m_i[i]);
+        s += (ax - mu * mx).norm_sqr();
+    }
+    s.sqrt()
+}
+
+/// M x for M = M′ − jM″ on the full unknowns (real and imaginary parts).
+fn mass_apply(m: &SystemMatrices, xr: &[f64], xi: &[f64], t: &mut [f64]) -> (Vec<f64>, Vec<f64>) {
+    let n = xr.len();
+    let mut yr = vec![0.0; n];
+    spmv(&m.mass_real, xr, &mut yr);
+    if xi.is_empty() && m.mass_imag.is_none() {
+        return (yr, Vec::new());
+    }
+    let mut yi = vec![0.0; n];
+    if !xi.is_empty() {
+        spmv(&m.mass_real, xi, &mut yi);
+    }
+    if let Some(mi) = &m.mass_imag {
+        if !xi.is_empty() {
+            spmv(mi, xi, t);
+            for i in 0..n {
+                yr[i] += t[i];
+            }
+        }
+        spmv(mi, xr, t);
+        for i in 0..n {
+            yi[i] -= t[i];
+        }
+    }
+    (yr, yi)
+}
+
+/// Unconjugated xᵀ M x for M = M′ − jM″.
+fn bilinear_mass(m: &SystemMatrices, xr: &[f64], xi: &[f64]) -> c64 {
+    let mut t = vec![0.0; xr.len()];
+    let (yr, yi) = mass_apply(m, xr, xi, &mut t);
+    let dot = |a: &[f64], b: &[f64]| a.iter().zip(b).map(|(x, y)| x * y).sum::<f64>();
+    let re = dot(xr, &yr)
+        - if xi.is_empty() || yi.is_empty() {
+            0.0
+        } else {
+            dot(xi, &yi)
+        };
+    let im = (if yi.is_empty() { 0.0 } else { dot(xr, &yi) })
+        + if xi.is_empty() { 0.0 } else { dot(xi, &yr) };
+    c64::new(re, im)
+}
+
+/// xᵀ A x.
+fn quad(a: &SparseMatrix, x: &[f64], t: &mut [f64]) -> f64 {
+    spmv(a, x, t);
+    x.iter().zip(t.iter()).map(|(p, q)| p * q).sum()
 }
 
 fn norm(x: &[f64]) -> f64 {

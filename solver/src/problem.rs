@@ -6,6 +6,8 @@ use crate::assembly::RegionMaterial;
 use crate::element::NedelecOrder;
 use crate::error::SolverError;
 use crate::modes::{solve_modes, ModeSet, ModeSettings, Stage};
+use crate::port::port_frames;
+use antinode_mesh::geometry::WallMetal;
 use antinode_mesh::{Geometry, TetMesh};
 
 /// Material constants of every mesh region (0 = air, i + 1 = load i) at `freq_hz`.
@@ -32,6 +34,11 @@ pub fn settings_from(geom: &Geometry) -> ModeSettings {
         (None, Some(_)) => 1,
         (None, None) => 20,
     };
+    s.wall_conductivity = match &geom.cavity.walls {
+        WallMetal::Pec => None,
+        WallMetal::Metal { conductivity, .. } => Some(*conductivity),
+    };
+    s.ports = port_frames(geom);
     s
 }
 

@@ -1,0 +1,282 @@
+//! Losses, quality factors and power split of a mode.
+//!
+//! With the field normalised to ∫ ε′|E|² dV = m′ (peak phasor amplitudes, SI units) and
+//! ω, k0 the mode's real angular frequency and wavenumber (Pozar, Microwave Engineering,
+//! 4th ed., §6.1–6.3 for the definitions; design notes §3):
+//!
+//! * stored energy W = 2 W_e = (ε0/2) ∫ ε′|E|² dV (electric and magnetic energies equal at
+//!   resonance);
+//! * dielectric loss P_d = (ω ε0/2) ∫ ε″|E|² dV, so Q_d = ωW/P_d = ∫ε′|E|² / ∫ε″|E|²;
+//! * wall loss by perturbation with Rs = √(ωμ0/2σ): P_c = (Rs/2) ∮ |H_t|² dS with
+//!   H = ∇×E/(−jωμ0), so Q_c = k0² ωμ0 ∫ε′|E|² / (Rs ∮|n×∇×E|² dS);
+//! * port p with amplitude c_p and TE10 constant β_p: P_p = (β_p/2ωμ0) N_p |c_p|², so
+//!   Q_ext,p = k0² ∫ε′|E|² / (β_p N_p |c_p|²) (infinite below cutoff);
+//! * 1/Q_L = 1/Q_d + 1/Q_c + Σ 1/Q_ext, 1/Q0 = 1/Q_d + 1/Q_c; coupling κ = Q0/Q_ext;
+//!   reflection at resonance |Γ| = |1 − κ|/(1 + κ); share of the forward power that ends in
+//!   the loads (1 − |Γ|²)(1/Q_d)/(1/Q0).
+//!
+//! With several ports, the other ports count as losses for port p (they are matched).
+
+use crate::assembly::RegionMaterial;
+use crate::dofmap::{DofMap, FIXED};
+use crate::element::{cross3, dot3, NedelecTet, TetGeometry, FACES};
+use crate::topology::Topology;
+use antinode_mesh::{BoundaryTag, TetMesh};
+use rayon::prelude::*;
+
+/// μ0 (H/m), CODATA 2018 value.
+pub const MU0: f64 = 1.256_637_062_12e-6;
+
+/// Field integrals of one mode.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct ModeIntegrals {
+    /// ∫ |E|² dV per region (m³·(V/m)²).
+    pub region_e2: Vec<f64>,
+    /// ∮_walls |n × ∇×E|² dS.
+    pub wall_curl2: f64,
+}
+
+fn quad_form(m: &[f64], n: usize, x: &[f64]) -> f64 {
+    let mut s = 0.0;
+    for a in 0..n {
+        let mut r = 0.0;
+        for b in 0..n {
+            r += m[a * n + b] * x[b];
+        }
+        s += x[a] * r;
+    }
+    s
+}
+
+/// Integrals of several modes (each given by real and imaginary coefficient vectors
+/// over the free unknowns). One pass over the mesh for all modes.
+pub fn mode_integrals(
+    mesh: &TetMesh,
+    topo: &Topology,
+    dofs: &DofMap,
+    modes: &[(&[f64], &[f64])],
+) -> Vec<ModeIntegrals> {
+    let element = NedelecTet::new(dofs.order);
+    let nl = element.len();
+    let nreg = mesh.regions.len().max(1);
+    let empty = || {
+        vec![
+            ModeIntegrals {
+                region_e2: vec![0.0; nreg],
+                wall_curl2: 0.0
+            };
+            modes.len()
+        ]
+    };
+    (0..topo.n_tets())
+        .into_par_iter()
+        .fold(
+            || {
+                (
+                    empty(),
+                    vec![0.0; nl * nl],
+                    vec![0.0; nl * nl],
+                    vec![0.0; 2 * nl],
+                )
+            },
+            |(mut acc, mut kc, mut mm, mut xl), t| {
+                let x = topo.tets[t].map(|v| mesh.nodes[v as usize]);
+                let geo = TetGeometry::new(x);
+                element.matrices(&geo, &mut kc, &mut mm);
+                let td = dofs.of_tet(t);
+                let region = mesh.tet_region[t] as usize;
+                let wall_faces: Vec<usize> = (0..4)
+                    .filter(|&lf| {
+                        topo.face_tag[topo.tet_faces[t][lf] as usize] == Some(BoundaryTag::Wall)
+                    })
+                    .collect();
+                for (mi, (re, im)) in modes.iter().enumerate() {
+                    let (xr, xi) = xl.split_at_mut(nl);
+                    for a in 0..nl {
+                        let d = td[a];
+                        xr[a] = if d == FIXED { 0.0 } else { re[d as usize] };
+                        xi[a] = if d == FIXED || im.is_empty() {
+                            0.0
+                        } else {
+                            im[d as usize]
+                        };
+                    }
+                    acc[mi].region_e2[region] += quad_form(&mm, nl, xr) + quad_form(&mm, nl, xi);
+                }
+                for &lf in &wall_faces {
+                    let (i, j, k) = FACES[lf];
+                    let e1 = [x[j][0] - x[i][0], x[j][1] - x[i][1], x[j][2] - x[i][2]];
+                    let e2 = [x[k][0] - x[i][0], x[k][1] - x[i][1], x[k][2] - x[i][2]];
+                    let nrm = cross3(e1, e2);
+                    let len = dot3(nrm, nrm).sqrt();
+                    let normal = [nrm[0] / len, nrm[1] / len, nrm[2] / len];
+                    element.face_matrices(&geo, lf, 0.5 * len, normal, &mut mm, &mut kc);
+                    for (mi, (re, im)) in modes.iter().enumerate() {
+                        let (xr, xi) = xl.split_at_mut(nl);
+                        for a in 0..nl {
+                            let d = td[a];
+                            xr[a] = if d == FIXED { 0.0 } else { re[d as usize] };
+                            xi[a] = if d == FIXED || im.is_empty() {
+                                0.0
+                            } else {
+                                im[d as usize]
+                            };
+                        }
+                        acc[mi].wall_curl2 += quad_form(&kc, nl, xr) + quad_form(&kc, nl, xi);
+                    }
+                }
+                (acc, kc, mm, xl)
+            },
+        )
+        .map(|(acc, _, _, _)| acc)
+        .reduce(empty, |mut a, b| {
+            for (x, y) in a.iter_mut().zip(b) {
+                for (r, s) in x.region_e2.iter_mut().zip(y.region_e2) {
+                    *r += s;
+                }
+                x.wall_curl2 += y.wall_curl2;
+            }
+            a
+        })
+}
+
+/// Surface resistance Rs = √(ωμ0/2σ) (Ω) of a metal with conductivity σ (S/m).
+pub fn surface_resistance(freq_hz: f64, conductivity: f64) -> f64 {
+    let omega = 2.0 * std::f64::consts::PI * freq_hz;
+    (omega * MU0 / (2.0 * conductivity)).sqrt()
+}
+
+/// Port quantities of one mode.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct PortPower {
+    /// |c_p|² N_p (amplitude squared times aperture norm).
+    pub amplitude2_norm: f64,
+    /// Re β_p at the mode frequency (0 below cutoff).
+    pub beta: f64,
+}
+
+/// Quality factors and power split of one mode.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ModeQ {
+    /// Loaded Q: 1/Q_L = 1/Q_d + 1/Q_c + Σ 1/Q_ext.
+    pub q_loaded: f64,
+    /// Unloaded Q0: 1/Q0 = 1/Q_d + 1/Q_c.
+    pub q_unloaded: f64,
+    /// Dielectric Q (loads).
+    pub q_dielectric: f64,
+    /// Wall Q.
+    pub q_walls: f64,
+    /// External Q of each port.
+    pub q_ports: Vec<f64>,
+    /// Coupling κ_p = Q0,p/Q_ext,p (other ports counted as losses).
+    pub coupling: Vec<f64>,
+    /// |Γ| at resonance seen from each port.
+    pub reflection: Vec<f64>,
+    /// Share of port p's forward power absorbed in the loads at resonance.
+    pub load_power_fraction: Vec<f64>,
+    /// Share of the stored electric energy inside each load (load order).
+    pub load_energy_fraction: Vec<f64>,
+}
+
+fn inv(q: f64) -> f64 {
+    if q.is_finite() {
+        1.0 / q
+    } else {
+        0.0
+    }
+}
+
+fn q_of(num: f64, den: f64) -> f64 {
+    if den > 0.0 {
+        num / den
+    } else {
+        f64::INFINITY
+    }
+}
+
+/// Q parts of a mode at real frequency `freq_hz` from its integrals.
+pub fn mode_q(
+    freq_hz: f64,
+    integrals: &ModeIntegrals,
+    materials: &[RegionMaterial],
+    wall_conductivity: Option<f64>,
+    ports: &[PortPower],
+) -> ModeQ {
+    let omega = 2.0 * std::f64::consts::PI * freq_hz;
+    let k0 = omega / crate::modes::C0;
+    let m_real: f64 = integrals
+        .region_e2
+        .iter()
+        .zip(materials)
+        .map(|(e, m)| m.eps_real * e)
+        .sum();
+    let m_imag: f64 = integrals
+        .region_e2
+        .iter()
+        .zip(materials)
+        .map(|(e, m)| m.eps_imag * e)
+        .sum();
+    let q_dielectric = q_of(m_real, m_imag);
+    let q_walls = match wall_conductivity {
+        Some(sigma) => {
+            let rs = surface_resistance(freq_hz, sigma);
+            q_of(k0 * k0 * omega * MU0 * m_real, rs * integrals.wall_curl2)
+        }
+        None => f64::INFINITY,
+    };
+    let q_ports: Vec<f64> = ports
+        .iter()
+        .map(|p| q_of(k0 * k0 * m_real, p.beta * p.amplitude2_norm))
+        .collect();
+    let inv_q0 = inv(q_dielectric) + inv(q_walls);
+    let inv_ext: f64 = q_ports.iter().map(|&q| inv(q)).sum();
+    let q_loaded = q_of(1.0, inv_q0 + inv_ext);
+    let q_unloaded = q_of(1.0, inv_q0);
+    let mut coupling = Vec::new();
+    let mut reflection = Vec::new();
+    let mut load_power_fraction = Vec::new();
+    for &qe in &q_ports {
+        let inv_q0p = inv_q0 + inv_ext - inv(qe);
+        let kappa = if inv_q0p > 0.0 {
+            inv(qe) / inv_q0p
+        } else {
+            f64::INFINITY
+        };
+        let gamma = if kappa.is_finite() {
+            (1.0 - kappa).abs() / (1.0 + kappa)
+        } else {
+            1.0
+        };
+        coupling.push(kappa);
+        reflection.push(gamma);
+        let to_load = if inv_q0p > 0.0 {
+            inv(q_dielectric) / inv_q0p
+        } else {
+            0.0
+        };
+        load_power_fraction.push((1.0 - gamma * gamma) * to_load);
+    }
+    let load_energy_fraction = materials
+        .iter()
+        .zip(&integrals.region_e2)
+        .skip(1)
+        .map(|(m, e)| {
+            if m_real > 0.0 {
+                m.eps_real * e / m_real
+            } else {
+                0.0
+            }
+        })
+        .collect();
+    ModeQ {
+        q_loaded,
+        q_unloaded,
+        q_dielectric,
+        q_walls,
+        q_ports,
+        coupling,
+        reflection,
+        load_power_fraction,
+        load_energy_fraction,
+    }
+}

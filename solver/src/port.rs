@@ -1,0 +1,338 @@
+//! Matched rectangular-waveguide feed ports carrying the TE10 mode.
+//!
+//! A port is an aperture of width a (broad side, along û) and height b (along v̂) in a
+//! wall with outward normal n̂. Its transverse TE10 field is e(x) = sin(π s / a) v̂ with
+//! s ∈ [0, a] the position across the broad side (Pozar, Microwave Engineering, 4th ed.,
+//! §3.3). The propagation constant is β = √(k0² − (π/a)²) (−j√((π/a)² − k0²) below
+//! cutoff, an evanescent, loss-free port).
+//!
+//! Model: the tangential field on the aperture is constrained to a multiple of the TE10
+//! pattern, E_t = c·e, so higher waveguide modes are taken as negligible at the
+//! aperture. The port unknowns of the aperture's edges and faces are replaced by one
+//! amplitude c per port: x_port = c·t, with t the L2 projection of e onto the trace
+//! space (exact integrals of a quadratic interpolant of e). For an outgoing wave
+//! n̂ × H = −(β/ωμ0) E_t, so the boundary term of the weak form is
+//!
+//!   ∮_port v·(n̂ × ∇×E) dS = jβ ∮_port v_t·E_t dS  →  jβ N c (with N = ∮|Σ t φ_t|² dS),
+//!
+//! a single complex diagonal entry per port. The time-average power carried away is
+//! P = (β / 2ωμ0) N |c|² (propagating case).
+
+use crate::dofmap::{DofMap, FIXED};
+use crate::element::{cross3, dot3, NedelecTet, TetGeometry, FACES};
+use crate::topology::Topology;
+use antinode_mesh::geometry::{CavityShape, Geometry, PortWall};
+use antinode_mesh::{BoundaryTag, TetMesh};
+use faer::c64;
+use faer::linalg::solvers::Solve;
+
+/// Position and orientation of one port aperture (metres).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct PortFrame {
+    /// Centre of the aperture.
+    pub center: [f64; 3],
+    /// Unit vector along the broad side.
+    pub u: [f64; 3],
+    /// Unit vector along the narrow side (direction of the TE10 electric field).
+    pub v: [f64; 3],
+    /// Outward unit normal of the wall.
+    pub n: [f64; 3],
+    /// Broad side a (m).
+    pub width: f64,
+    /// Narrow side b (m).
+    pub height: f64,
+}
+
+impl PortFrame {
+    /// TE10 transverse field pattern at `x` (unit amplitude at the centre line).
+    pub fn te10(&self, x: [f64; 3]) -> [f64; 3] {
+        let d = [
+            x[0] - self.center[0],
+            x[1] - self.center[1],
+            x[2] - self.center[2],
+        ];
+        let s = dot3(d, self.u) + 0.5 * self.width;
+        let amp = (std::f64::consts::PI * s / self.width).sin();
+        [amp * self.v[0], amp * self.v[1], amp * self.v[2]]
+    }
+
+    /// Cutoff wavenumber π/a of TE10 (m⁻¹).
+    pub fn cutoff_k(&self) -> f64 {
+        std::f64::consts::PI / self.width
+    }
+
+    /// Propagation constant β(k0) (complex: −jα below cutoff).
+    pub fn beta(&self, k0: f64) -> c64 {
+        let d = k0 * k0 - self.cutoff_k().powi(2);
+        if d >= 0.0 {
+            c64::new(d.sqrt(), 0.0)
+        } else {
+            c64::new(0.0, -(-d).sqrt())
+        }
+    }
+}
+
+/// Frames of the geometry's ports, in file order.
+pub fn port_frames(geom: &Geometry) -> Vec<PortFrame> {
+    let mm = 1e-3;
+    geom.ports
+        .iter()
+        .map(|p| {
+            let (center, e0, e1, n) = match (p.wall, geom.cavity.shape) {
+                (PortWall::BoxWall { axis, positive }, CavityShape::Box { size }) => {
+                    let [a0, a1] = PortWall::box_in_plane_axes(axis);
+                    let mut c = [0.0; 3];
+                    c[axis] = if positive { size[axis] } else { 0.0 };
+                    c[a0] = p.center[0];
+                    c[a1] = p.center[1];
+                    let mut e0 = [0.0; 3];
+                    e0[a0] = 1.0;
+                    let mut e1 = [0.0; 3];
+                    e1[a1] = 1.0;
+                    let mut n = [0.0; 3];
+                    n[axis] = if positive { 1.0 } else { -1.0 };
+                    (c, e0, e1, n)
+                }
+                (PortWall::Top, CavityShape::Cylinder { height, .. }) => (
+                    [p.center[0], p.center[1], height],
+                    [1.0, 0.0, 0.0],
+                    [0.0, 1.0, 0.0],
+                    [0.0, 0.0, 1.0],
+                ),
+                (PortWall::Bottom, _) => (
+                    [p.center[0], p.center[1], 0.0],
+                    [1.0, 0.0, 0.0],
+                    [0.0, 1.0, 0.0],
+                    [0.0, 0.0, -1.0],
+                ),
+                (PortWall::Side { angle_deg }, CavityShape::Cylinder { radius, .. }) => {
+                    let phi = angle_deg.to_radians() + p.center[0] / radius;
+                    let (s, c) = phi.sin_cos();
+                    (
+                        [radius * c, radius * s, p.center[1]],
+                        [-s, c, 0.0],
+                        [0.0, 0.0, 1.0],
+                        [c, s, 0.0],
+                    )
+                }
+                // Validation rejects ports on walls of the other cavity shape.
+                (_, _) => (
+                    [p.center[0], p.center[1], 0.0],
+                    [1.0, 0.0, 0.0],
+                    [0.0, 1.0, 0.0],
+                    [0.0, 0.0, -1.0],
+                ),
+            };
+            let (u, v) = if p.rotated { (e1, e0) } else { (e0, e1) };
+            PortFrame {
+                center: center.map(|x| x * mm),
+                u,
+                v,
+                n,
+                width: p.width * mm,
+                height: p.height * mm,
+            }
+        })
+        .collect()
+}
+
+/// The TE10 constraint of every port: which free unknowns lie on the aperture and the
+/// coefficients t of the TE10 pattern in them.
+#[derive(Clone, Debug)]
+pub struct PortConstraint {
+    /// Per port: (free unknown, coefficient t) pairs.
+    pub entries: Vec<Vec<(u32, f64)>>,
+    /// Per port: N = ∮ |Σ t φ_t|² dS (m²·(V/m)² per unit amplitude²).
+    pub norm: Vec<f64>,
+    /// Per port: ∮ |e|² dS of the exact pattern (for the projection-quality check).
+    pub exact_norm: Vec<f64>,
+}
+
+/// Tetrahedron and local face of every boundary face with a port tag.
+fn port_faces(topo: &Topology, port: usize) -> Vec<(usize, usize)> {
+    let mut out = Vec::new();
+    for (t, faces) in topo.tet_faces.iter().enumerate() {
+        for (lf, &f) in faces.iter().enumerate() {
+            if topo.face_tag[f as usize] == Some(BoundaryTag::Port(port)) {
+                out.push((t, lf));
+            }
+        }
+    }
+    out
+}
+
+fn unit_normal(a: [f64; 3], b: [f64; 3], c: [f64; 3]) -> ([f64; 3], f64) {
+    let n = cross3(
+        [b[0] - a[0], b[1] - a[1], b[2] - a[2]],
+        [c[0] - a[0], c[1] - a[1], c[2] - a[2]],
+    );
+    let len = dot3(n, n).sqrt();
+    ([n[0] / len, n[1] / len, n[2] / len], 0.5 * len)
+}
+
+/// Build the TE10 constraint of each port by L2 projection on its aperture.
+pub fn port_constraint(
+    mesh: &TetMesh,
+    topo: &Topology,
+    dofs: &DofMap,
+    frames: &[PortFrame],
+) -> PortConstraint {
+    let element = NedelecTet::new(dofs.order);
+    let nl = element.len();
+    let mut entries = Vec::new();
+    let mut norms = Vec::new();
+    let mut exact = Vec::new();
+    for (p, frame) in frames.iter().enumerate() {
+        let faces = port_faces(topo, p);
+        // Local numbering of the aperture unknowns.
+        let mut local: Vec<u32> = faces
+            .iter()
+            .flat_map(|&(t, _)| dofs.of_tet(t).iter().copied())
+            .filter(|&d| d != FIXED)
+            .collect();
+        local.sort_unstable();
+        local.dedup();
+        let m = local.len();
+        let mut b = faer::Mat::<f64>::zeros(m, m);
+        let mut rhs = faer::Mat::<f64>::zeros(m, 1);
+        let mut fm = vec![0.0; nl * nl];
+        let mut fc = vec![0.0; nl * nl];
+        let mut fl = vec![0.0; nl];
+        let mut exact_norm = 0.0;
+        for &(t, lf) in &faces {
+            let x = topo.tets[t].map(|v| mesh.nodes[v as usize]);
+            let geo = TetGeometry::new(x);
+            let (i, j, k) = FACES[lf];
+            let (normal, area) = unit_normal(x[i], x[j], x[k]);
+            element.face_matrices(&geo, lf, area, normal, &mut fm, &mut fc);
+            let mid = |a: [f64; 3], b: [f64; 3]| {
+                [
+                    0.5 * (a[0] + b[0]),
+                    0.5 * (a[1] + b[1]),
+                    0.5 * (a[2] + b[2]),
+                ]
+            };
+            let pts = [
+                x[i],
+                x[j],
+                x[k],
+                mid(x[i], x[j]),
+                mid(x[i], x[k]),
+                mid(x[j], x[k]),
+            ];
+            let u = pts.map(|q| frame.te10(q));
+            element.face_load_quadratic(&geo, lf, area, normal, u, &mut fl);
+            // ∫|e|² with the 3-point edge-midpoint rule (exact for quadratics; e is
+            // smooth and resolved by the mesh, so this is only a quality figure).
+            exact_norm += area / 3.0 * (3..6).map(|q| dot3(u[q], u[q])).sum::<f64>();
+            let td = dofs.of_tet(t);
+            for a in 0..nl {
+                if td[a] == FIXED {
+                    continue;
+                }
+                let ra = local.binary_search(&td[a]).expect("aperture unknown");
+                rhs[(ra, 0)] += fl[a];
+                for bb in 0..nl {
+                    if td[bb] == FIXED {
+                        continue;
+                    }
+                    let rb = local.binary_search(&td[bb]).expect("aperture unknown");
+                    b[(ra, rb)] += fm[a * nl + bb];
+                }
+            }
+        }
+        // Unknowns of tetrahedra touching the aperture only through an edge or face
+        // interior to the volume have zero trace; they get t = 0 and are not constrained.
+        // Round-off leaves ~1e-16 relative traces on them, hence the relative threshold.
+        let max_diag = (0..m).map(|r| b[(r, r)]).fold(0.0, f64::max);
+        let keep: Vec<usize> = (0..m).filter(|&r| b[(r, r)] > 1e-10 * max_diag).collect();
+        let bk = faer::Mat::from_fn(keep.len(), keep.len(), |r, c| b[(keep[r], keep[c])]);
+        let rk = faer::Mat::from_fn(keep.len(), 1, |r, _| rhs[(keep[r], 0)]);
+        let sol = match bk.llt(faer::Side::Lower) {
+            Ok(llt) => llt.solve(&rk),
+            Err(_) => faer::Mat::zeros(keep.len(), 1),
+        };
+        let bt = &bk * &sol;
+        let nrm: f64 = (0..keep.len()).map(|r| sol[(r, 0)] * bt[(r, 0)]).sum();
+        entries.push(
+            keep.iter()
+                .enumerate()
+                .map(|(r, &lr)| (local[lr], sol[(r, 0)]))
+                .collect(),
+        );
+        norms.push(nrm);
+        exact.push(exact_norm);
+    }
+    PortConstraint {
+        entries,
+        norm: norms,
+        exact_norm: exact,
+    }
+}
+
+/// The change of unknowns x = T y that applies the port constraints: unconstrained
+/// unknowns keep their values (renumbered consecutively), and the aperture unknowns of
+/// port p are t_p times the amplitude y[port_base + p].
+#[derive(Clone, Debug)]
+pub struct Reduction {
+    pub n_full: usize,
+    pub n_reduced: usize,
+    /// Index of the first port amplitude in the reduced unknowns.
+    pub port_base: usize,
+    t: SparseMatrix,
+}
+
+impl Reduction {
+    /// Build T from the constraints on `n_full` free unknowns.
+    pub fn new(n_full: usize, constraint: &PortConstraint) -> Self {
+        let mut port_of = vec![None; n_full];
+        for (p, list) in constraint.entries.iter().enumerate() {
+            for &(d, coef) in list {
+                port_of[d as usize] = Some((p, coef));
+            }
+        }
+        let mut next = 0u32;
+        let map: Vec<u32> = port_of
+            .iter()
+            .map(|p| {
+                if p.is_some() {
+                    FIXED
+                } else {
+                    next += 1;
+                    next - 1
+                }
+            })
+            .collect();
+        let port_base = next as usize;
+        let n_reduced = port_base + constraint.entries.len();
+        let mut tri = sprs::TriMatI::<f64, u32>::new((n_full, n_reduced));
+        for d in 0..n_full {
+            match port_of[d] {
+                None => tri.add_triplet(d, map[d] as usize, 1.0),
+                Some((p, coef)) => tri.add_triplet(d, port_base + p, coef),
+            }
+        }
+        Self {
+            n_full,
+            n_reduced,
+            port_base,
+            t: tri.to_csr(),
+        }
+    }
+
+    /// Tᵀ A T.
+    pub fn reduce(&self, a: &SparseMatrix) -> SparseMatrix {
+        let tt: SparseMatrix = self.t.transpose_view().to_csr();
+        let at: SparseMatrix = a * &self.t;
+        &tt * &at
+    }
+
+    /// x = T y.
+    pub fn expand(&self, y: &[f64]) -> Vec<f64> {
+        let mut x = vec![0.0; self.n_full];
+        crate::assembly::spmv(&self.t, y, &mut x);
+        x
+    }
+}
+
+use crate::assembly::SparseMatrix;
