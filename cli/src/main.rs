@@ -49,7 +49,6 @@ enum Command {
     /// from the target and residual, plus a band summary (count, Weyl's-law estimate,
     /// distinct frequency groups, spacing). Writes DIR/modes.json, DIR/modes.csv and,
     /// unless --no-fields, one DIR/mode_NNN.vtu per mode with a DIR/modes.pvd collection.
-    /// Walls and feed ports are treated as perfect conductors (lossless modes, no Q yet).
     Modes(commands::modes::ModesArgs),
     /// List the built-in materials with permittivity and loss at a frequency (metals:
     /// conductivity and surface resistance), with the source of each value.

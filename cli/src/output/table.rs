@@ -7,8 +7,7 @@ use crate::units;
 pub fn print(doc: &ModesDoc) {
     println!("{}", doc.title);
     println!(
-        "target {} GHz, Nédélec order {}, {} unknowns; walls and ports treated as perfect \
-         conductors (lossless modes)",
+        "target {} GHz, Nédélec order {}, {} unknowns",
         doc.target_ghz, doc.order, doc.unknowns
     );
     println!();
