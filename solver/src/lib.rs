@@ -17,6 +17,7 @@
 pub mod arnoldi;
 pub mod assembly;
 pub mod barycentric;
+pub mod budget;
 pub mod dofmap;
 pub mod eigen;
 pub mod element;
@@ -28,6 +29,7 @@ pub mod topology;
 pub use error::SolverError;
 pub mod losses;
 pub mod modes;
+pub mod ordering;
 pub mod port;
 pub mod problem;
 

@@ -1,0 +1,141 @@
+//! Benchmark: the empty 300 × 300 × 200 mm box, 20 modes nearest 2.45 GHz, structured
+//! meshes from coarse to fine, Nédélec order 1 and 2. Prints unknowns, assembly,
+//! factorisation and eigen times, peak memory and the worst relative frequency error
+//! against the analytic TE/TM_mnp list (Pozar, Microwave Engineering, 4th ed., §6.3).
+//! Figures are printed, never asserted.
+//!
+//! Each case runs in a child process so that its peak resident memory (VmHWM) is its
+//! own. Run: `cargo bench -p antinode-tests --bench box_modes` (add `-- quick` for the
+//! small cases only, `-- yardstick` to also run the general-purpose Python path from
+//! `shared/yardstick/` when scikit-fem and scipy are installed).
+
+use antinode_mesh::structured::{grid_mesh, GridLines};
+use antinode_mesh::RegionInfo;
+use antinode_solver::assembly::RegionMaterial;
+use antinode_solver::modes::{solve_modes, ModeSettings, C0};
+use antinode_solver::NedelecOrder;
+use std::process::Command;
+use std::time::Instant;
+
+const A: f64 = 0.30;
+const B: f64 = 0.30;
+const D: f64 = 0.20;
+
+fn analytic(fmax: f64) -> Vec<f64> {
+    let mut fs = Vec::new();
+    for m in 0..12 {
+        for n in 0..12 {
+            for p in 0..12 {
+                let zeros = (m == 0) as u8 + (n == 0) as u8 + (p == 0) as u8;
+                if zeros > 1 {
+                    continue;
+                }
+                let f = C0 / 2.0 * ((m as f64 / A).powi(2) + (n as f64 / B).powi(2) + (p as f64 / D).powi(2)).sqrt();
+                if f <= fmax {
+                    let mult = if zeros == 0 { 2 } else { 1 };
+                    fs.extend(std::iter::repeat_n(f, mult));
+                }
+            }
+        }
+    }
+    fs.sort_by(f64::total_cmp);
+    fs
+}
+
+fn peak_rss_mb() -> f64 {
+    let status = std::fs::read_to_string("/proc/self/status").unwrap_or_default();
+    status
+        .lines()
+        .find(|l| l.starts_with("VmHWM:"))
+        .and_then(|l| l.split_whitespace().nth(1))
+        .and_then(|v| v.parse::<f64>().ok())
+        .map_or(f64::NAN, |kb| kb / 1024.0)
+}
+
+fn run_case(order: u8, per_100mm: usize) {
+    let cells = |len: f64| (len / 0.1 * per_100mm as f64).round() as usize;
+    let n = [cells(A), cells(B), cells(D)];
+    let t0 = Instant::now();
+    let mesh = grid_mesh(&GridLines::uniform([0.0; 3], [A, B, D], n), vec![RegionInfo { name: "air".into() }], |_| Some(0));
+    let mesh_s = t0.elapsed().as_secs_f64();
+    let mut s = ModeSettings::new(2.45e9);
+    s.order = NedelecOrder::from_int(order).expect("order 1 or 2");
+    s.count = 20;
+    let t1 = Instant::now();
+    let set = match solve_modes(&mesh, &[RegionMaterial::VACUUM], &s, &mut |_| {}) {
+        Ok(set) => set,
+        Err(e) => {
+            println!("order={order} cells/100mm={per_100mm} failed: {e}");
+            return;
+        }
+    };
+    let total = t1.elapsed().as_secs_f64();
+    let reference = analytic(4.0e9);
+    let worst = set
+        .modes
+        .iter()
+        .map(|m| reference.iter().map(|r| (r - m.frequency_hz).abs() / r).fold(f64::INFINITY, f64::min))
+        .fold(0.0, f64::max);
+    let st = &set.stats;
+    println!(
+        "order={order} cells/100mm={per_100mm:>2} tets={:>7} unknowns={:>7} mesh={:.2}s assembly={:.2}s factor={:.2}s eigen={:.2}s total={:.2}s factor_nnz={:.1}M peak={:.0}MB modes={} worst_rel_err={:.2e} restarts={} solves={}",
+        mesh.tets.len(),
+        st.n_dofs,
+        mesh_s,
+        st.assembly_s,
+        st.factor_s,
+        st.eigen_s,
+        total,
+        st.factor_nnz as f64 / 1e6,
+        peak_rss_mb(),
+        set.modes.len(),
+        worst,
+        st.restarts,
+        st.applications
+    );
+}
+
+fn main() {
+    let args: Vec<String> = std::env::args().collect();
+    if let (Ok(order), Ok(n)) = (std::env::var("ANTINODE_BENCH_ORDER"), std::env::var("ANTINODE_BENCH_N")) {
+        run_case(order.parse().unwrap_or(1), n.parse().unwrap_or(4));
+        return;
+    }
+    let quick = args.iter().any(|a| a == "quick");
+    let cases: Vec<(u8, usize)> = if quick {
+        vec![(1, 4), (1, 8), (2, 2), (2, 4)]
+    } else {
+        vec![(1, 4), (1, 8), (1, 12), (1, 16), (2, 2), (2, 3), (2, 4), (2, 6), (2, 8)]
+    };
+    let exe = std::env::current_exe().expect("own path");
+    println!("empty 300x300x200 mm PEC box, 20 modes nearest 2.45 GHz, {} threads", rayon_threads());
+    for (order, n) in cases {
+        let out = Command::new(&exe)
+            .env("ANTINODE_BENCH_ORDER", order.to_string())
+            .env("ANTINODE_BENCH_N", n.to_string())
+            .output();
+        match out {
+            Ok(o) => print!("{}", String::from_utf8_lossy(&o.stdout)),
+            Err(e) => println!("order={order} cells/100mm={n}: could not run: {e}"),
+        }
+    }
+    if args.iter().any(|a| a == "yardstick") {
+        let script = concat!(env!("CARGO_MANIFEST_DIR"), "/../../shared/yardstick/general_fem_box.py");
+        for n in ["4", "8"] {
+            let t = Instant::now();
+            match Command::new("/usr/bin/time").args(["-f", "peak_kb=%M", "python3", script, n]).output() {
+                Ok(o) => println!(
+                    "yardstick (general-purpose Python path) N={n}: {} {} wall={:.1}s",
+                    String::from_utf8_lossy(&o.stdout).trim(),
+                    String::from_utf8_lossy(&o.stderr).trim().lines().last().unwrap_or(""),
+                    t.elapsed().as_secs_f64()
+                ),
+                Err(e) => println!("yardstick N={n}: could not run: {e}"),
+            }
+        }
+    }
+}
+
+fn rayon_threads() -> usize {
+    std::thread::available_parallelism().map_or(1, |n| n.get())
+}
