@@ -337,6 +337,55 @@ fn mean_edge_per_region(mesh: &TetMesh, far: Option<(&Geometry, f64)>) -> Vec<f6
         .collect()
 }
 
+/// Number of tets of `region` whose centroid (mm) satisfies `keep`, and their mean edge
+/// length (mm).
+fn mean_edge_where(mesh: &TetMesh, region: u32, keep: impl Fn([f64; 3]) -> bool) -> (usize, f64) {
+    let (mut sum, mut n) = (0.0, 0usize);
+    for (t, tet) in mesh.tets.iter().enumerate() {
+        if mesh.tet_region[t] != region {
+            continue;
+        }
+        let c: [f64; 3] = std::array::from_fn(|k| {
+            tet.iter().map(|&i| mesh.nodes[i as usize][k]).sum::<f64>() / 4.0 / MM
+        });
+        if !keep(c) {
+            continue;
+        }
+        n += 1;
+        for a in 0..4 {
+            for b in a + 1..4 {
+                let (p, q) = (mesh.nodes[tet[a] as usize], mesh.nodes[tet[b] as usize]);
+                sum += ((p[0] - q[0]).powi(2) + (p[1] - q[1]).powi(2) + (p[2] - q[2]).powi(2))
+                    .sqrt()
+                    / MM;
+            }
+        }
+    }
+    (n, sum / (6 * n.max(1)) as f64)
+}
+
+/// Distances (mm) from a point to a load's footprint in x-y and to its z-range (0 inside).
+fn load_distance_xy_z(shape: Option<LoadShape>, p: [f64; 3]) -> [f64; 2] {
+    match shape {
+        Some(LoadShape::Box { min, max }) => {
+            let d: Vec<f64> = (0..3)
+                .map(|k| (min[k] - p[k]).max(p[k] - max[k]).max(0.0))
+                .collect();
+            [d[0].hypot(d[1]), d[2]]
+        }
+        Some(LoadShape::Cylinder {
+            center,
+            radius,
+            bottom,
+            height,
+        }) => [
+            ((p[0] - center[0]).hypot(p[1] - center[1]) - radius).max(0.0),
+            (bottom - p[2]).max(p[2] - bottom - height).max(0.0),
+        ],
+        None => [f64::INFINITY; 2],
+    }
+}
+
 /// Euclidean distance (mm) from a point to a load (0 inside).
 fn load_distance(shape: Option<LoadShape>, p: [f64; 3]) -> f64 {
     match shape {
@@ -380,6 +429,76 @@ fn empty_box_is_conforming_and_exact() {
     let mesh = mesh_geometry(&g).expect("mesh");
     let st = check_invariants(&g, &mesh, 20.0);
     assert_eq!(st.region_volumes.len(), 1);
+}
+
+/// Regular-tetrahedron volume factor: a regular tetrahedron of edge h has volume
+/// h³/(6√2) ≈ h³/8.49 (exact formula); a mesh whose edges average h has roughly
+/// V/(h³/(6√2)) tets (common practice, no source).
+fn regular_tet_count(volume_mm3: f64, h: f64) -> f64 {
+    volume_mm3 / (h.powi(3) / (6.0 * 2f64.sqrt()))
+}
+
+#[test]
+fn empty_box_elements_have_the_requested_size() {
+    // Issue 2 asks for the mean edge within ~15 % of the target h. The ideal mesh this
+    // mesher aims at (equilateral triangles of side 0.9 h in layers 0.9 h thick, each
+    // prism cut into three tets) has mean edge 1.16 × 0.9 h = 1.05 h and
+    // 6.93 V/(0.9 h)³ = 1.12 × V/(h³/8.49) tets (analytic); rows along the walls and the
+    // rounding of the layer count move both a little, hence the bands ±15 % and 0.8–1.4.
+    for (size, h) in [([300.0, 300.0, 200.0], 20.0), ([250.0, 180.0, 130.0], 12.0)] {
+        let mut g = geometry(CavityShape::Box { size }, vec![], vec![]);
+        g.mesh.per_wavelength = 1.0; // λ0 = 122 mm: max_size decides
+        g.mesh.max_size = h;
+        let mesh = mesh_geometry(&g).expect("mesh");
+        check_invariants(&g, &mesh, h);
+        let e = mean_edge_per_region(&mesh, None)[0];
+        let expect = regular_tet_count(size.iter().product(), h);
+        let ratio = mesh.tets.len() as f64 / expect;
+        println!(
+            "box {size:?}, h = {h} mm: {} tets ({ratio:.2} × V/(h³/8.49)), mean edge {e:.2} mm",
+            mesh.tets.len()
+        );
+        assert!(
+            (e / h - 1.0).abs() <= 0.15,
+            "mean edge {e} mm vs h = {h} mm"
+        );
+        assert!((0.8..=1.4).contains(&ratio), "tet count ratio {ratio}");
+    }
+}
+
+#[test]
+fn load_elements_have_the_requested_size() {
+    // A dielectric block large against its own size: its tets' mean edge within ±15 % of
+    // its target (issue 2's band), as in the empty box.
+    let mut g = geometry(
+        CavityShape::Box {
+            size: [300.0, 280.0, 200.0],
+        },
+        vec![(
+            "block",
+            LoadShape::Box {
+                min: [80.0, 70.0, 40.0],
+                max: [200.0, 190.0, 120.0],
+            },
+            dielectric("ceramic-like", 9.0),
+        )],
+        vec![],
+    );
+    g.mesh.per_wavelength = 5.0;
+    let sizes = element_sizes(&g).expect("sizes");
+    let mesh = mesh_geometry(&g).expect("mesh");
+    check_invariants(&g, &mesh, sizes[1].size_mm);
+    let e = mean_edge_per_region(&mesh, None);
+    println!(
+        "block: mean edges {e:?} mm, targets {:?}",
+        sizes.iter().map(|s| s.size_mm).collect::<Vec<_>>()
+    );
+    assert!(
+        (e[1] / sizes[1].size_mm - 1.0).abs() <= 0.15,
+        "block mean edge {} vs {}",
+        e[1],
+        sizes[1].size_mm
+    );
 }
 
 #[test]
@@ -440,18 +559,33 @@ fn box_with_bowl_on_plate_and_box_on_floor() {
             "load {i}: {v} vs {exact} (bound {bound})"
         );
     }
-    // Water meshed ≥ 5× finer than air (issue 2: ~9× by element size). Air is measured
-    // outside the graded shell, i.e. farther than (h_air − h_water)/GRADING from every
-    // load, where the size rule asks for h_air (analytic from the size rule).
+    // Each region's mean edge follows its own target size (issue 2: water ~9× finer than
+    // air). Water: every tet inside it. Air: only where the size rule asks for h_air, i.e.
+    // tets whose footprint is farther than (h_air − h_min)/GRADING from every load
+    // footprint and whose height is that far from every load's z-range (analytic from the
+    // size rule: both the cross-section and the layer sizes are h_air there).
     let e = mean_edge_per_region(&mesh, None);
-    let shell = (sizes[0].size_mm - sizes[2].size_mm) / GRADING;
-    let far = mean_edge_per_region(&mesh, Some((&g, shell)));
-    println!("mean edge per region (mm): {e:?}; air beyond the {shell:.0} mm shell: {:.2}; target sizes {:?}", far[0], sizes.iter().map(|s| s.size_mm).collect::<Vec<_>>());
-    assert!(
-        far[0] / e[2] >= 5.0,
-        "air/water edge ratio {}",
-        far[0] / e[2]
-    );
+    let shell = (sizes[0].size_mm - h_min) / GRADING;
+    let far = mean_edge_where(&mesh, 0, |c| {
+        g.loads.iter().all(|l| {
+            let d = load_distance_xy_z(l.shape, c);
+            d[0] > shell && d[1] > shell
+        })
+    });
+    println!("mean edge per region (mm): {e:?}; air beyond the {shell:.0} mm shell in x-y and z: {far:?}; target sizes {:?}", sizes.iter().map(|s| s.size_mm).collect::<Vec<_>>());
+    let (far_n, far_edge) = far;
+    assert!(far_n > 100, "too few far air tets ({far_n})");
+    for (what, got, want) in [
+        ("far air", far_edge, sizes[0].size_mm),
+        ("water", e[2], sizes[2].size_mm),
+    ] {
+        // ±15 %: the band issue 2 sets for the mesher; the ideal extruded lattice gives
+        // about 1.05 h (see planar::SPACING_FACTOR).
+        assert!(
+            (got / want - 1.0).abs() <= 0.15,
+            "{what}: mean edge {got:.2} mm vs target {want:.2} mm"
+        );
+    }
     let mut rng = ChaCha8Rng::seed_from_u64(7);
     check_regions(&g, &mesh, &mut rng, 150, h_min);
 }
@@ -813,4 +947,38 @@ fn heavy_box_with_water_bowl_figures() {
     );
     let sizes = element_sizes(&g).expect("sizes");
     check_invariants(&g, &mesh, sizes[1].size_mm);
+}
+
+/// Mean edge length (mm) per region, tets per region and quality of each example geometry
+/// in `geometries/`, for before/after comparisons of mesher changes (prints only).
+#[test]
+#[ignore = "heavy: meshes every example geometry and prints its figures"]
+fn heavy_example_geometry_figures() {
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("../geometries");
+    let mut files: Vec<_> = std::fs::read_dir(&dir)
+        .expect("geometries folder")
+        .filter_map(|e| e.ok().map(|e| e.path()))
+        .filter(|p| p.extension().is_some_and(|x| x == "toml"))
+        .collect();
+    files.sort();
+    for f in files {
+        let g = Geometry::from_file(&f).expect("geometry");
+        let t0 = Instant::now();
+        let mesh = mesh_geometry(&g).expect("mesh");
+        let dt = t0.elapsed();
+        let q = quality_report(&mesh);
+        let sizes = element_sizes(&g).expect("sizes");
+        let mut per_region = vec![0usize; mesh.regions.len()];
+        for &r in &mesh.tet_region {
+            per_region[r as usize] += 1;
+        }
+        println!(
+            "{}: {} nodes, {} tets {:?} in {:.2?}; dihedral {:.1}°..{:.1}°, {} poor; radius ratio min {:.3} mean {:.3}\n  mean edge per region (mm) {:.2?}, target {:.2?}",
+            f.file_name().map(|s| s.to_string_lossy().into_owned()).unwrap_or_default(),
+            mesh.nodes.len(), mesh.tets.len(), per_region, dt, q.min_dihedral_deg, q.max_dihedral_deg, q.poor_count,
+            q.min_radius_ratio, q.mean_radius_ratio,
+            mean_edge_per_region(&mesh, None),
+            sizes.iter().map(|s| s.size_mm).collect::<Vec<_>>()
+        );
+    }
 }

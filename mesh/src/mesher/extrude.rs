@@ -9,7 +9,7 @@
 
 use super::outline::{point_in_polygon, Outline, P2};
 use super::planar::Planar;
-use super::sizing::{cavity_height, graded_params, SizeField};
+use super::sizing::{cavity_height, graded_params_nearest, SizeField};
 use super::MesherError;
 use crate::geometry::{CavityShape, Geometry, PortWall};
 use crate::tet_mesh::{BoundaryTag, RegionInfo, TetMesh};
@@ -17,6 +17,11 @@ use rayon::prelude::*;
 
 /// Largest number of tetrahedra before meshing is refused.
 pub const MAX_TETS: usize = 40_000_000;
+
+/// Layer thickness relative to the target size h: as the 2-D point spacing
+/// ([`super::planar::SPACING_FACTOR`]), so prisms have square sides and their tets a mean
+/// edge close to h.
+const LAYER_FACTOR: f64 = super::planar::SPACING_FACTOR;
 
 /// mm → m.
 const MM: f64 = 1e-3;
@@ -52,7 +57,9 @@ pub(crate) fn layer_heights(geom: &Geometry, field: &SizeField) -> Vec<f64> {
     let mut z = vec![0.0];
     for w in br.windows(2) {
         let (a, b) = (w[0], w[1]);
-        let ts = graded_params(b - a, field.h_min(), |t| field.h_z(a + t * (b - a)));
+        let ts = graded_params_nearest(b - a, field.h_min(), |t| {
+            LAYER_FACTOR * field.h_z(a + t * (b - a))
+        });
         z.extend(ts[1..].iter().map(|t| a + t * (b - a)));
         // Exact breakpoint, not a + 1·(b − a) rounded.
         if let Some(last) = z.last_mut() {

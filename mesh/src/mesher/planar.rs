@@ -1,10 +1,11 @@
 //! The 2-D mesh of the cross-section: a constrained Delaunay triangulation (spade) of the
 //! outline graph plus graded interior points, improved by Delaunay refinement.
 //!
-//! Interior points come from a quadtree whose leaves are no larger than the local size,
-//! so their density follows the graded size field; Delaunay refinement (Ruppert/Chew, as
-//! implemented by spade) then removes the few skinny triangles left where quadtree levels
-//! meet or where outlines pass close to each other. This gives triangles with angles
+//! Interior points come from triangular lattices of the local spacing (see
+//! `interior_points`), so their density follows the graded size field; Delaunay
+//! refinement (Ruppert/Chew, as implemented by spade) then removes the few skinny
+//! triangles left where lattices of different spacing meet or where outlines pass close
+//! to each other. This gives triangles with angles
 //! ≥ 25° almost everywhere, which the extrusion turns into well-shaped prisms.
 
 use super::outline::{convex_depth, Outline, P2};
@@ -39,7 +40,24 @@ fn terr(e: impl std::fmt::Debug) -> MesherError {
     MesherError::Triangulation(format!("{e:?}"))
 }
 
-/// Quadtree leaf centres inside the cavity, away from the outline vertices.
+/// Spacing of interior points relative to the target size h. A triangulation of points
+/// a apart, extruded in layers LAYER_FACTOR·h thick, has tets whose six edges average
+/// about 1.16 a (equilateral base, square sides: four edges a, two diagonals √2 a), so
+/// 0.9 puts the mean edge within a few per cent of h (measured by the tests).
+pub(crate) const SPACING_FACTOR: f64 = 0.9;
+
+/// Interior points inside the cavity, away from the outline vertices, about
+/// `SPACING_FACTOR·h_xy` apart.
+///
+/// Points are taken from triangular (hexagonal) lattices sharing one origin: each cell of
+/// a quadtree fine enough for the size field to be nearly constant across it contributes
+/// the lattice points of spacing a = SPACING_FACTOR·h_xy(centre) that fall in it. Where
+/// the size is uniform neighbouring cells use the same lattice, giving equilateral
+/// triangles of exactly the requested size (a quadtree's leaf centres can only give
+/// spacings of side/2^k, up to twice too fine, and right-angled triangles). Where the size
+/// is graded the lattices of neighbouring cells differ; candidates are accepted finest
+/// first and rejected when closer than 0.75 a to an accepted point, so the seams hold no
+/// crowded points, and Delaunay refinement repairs the few skinny triangles left there.
 fn interior_points(
     outline: &Outline,
     field: &SizeField,
@@ -53,14 +71,57 @@ fn interior_points(
         }
     }
     let side = (hi[0] - lo[0]).max(hi[1] - lo[1]);
-    // Grid of outline vertices for the proximity test.
-    let cell = field.h_min();
+    let spacing = |p: P2| SPACING_FACTOR * field.h_xy(p);
+    // Candidates (spacing, point) from the lattice points of each quadtree cell.
+    let mut cand: Vec<(f64, P2)> = Vec::new();
+    let mut stack = vec![(lo, side)];
+    while let Some((corner, s)) = stack.pop() {
+        let c = [corner[0] + 0.5 * s, corner[1] + 0.5 * s];
+        if convex_depth(&outline.cavity, c) < -0.71 * s {
+            continue; // wholly outside the cavity
+        }
+        let a = spacing(c);
+        // h is GRADING-Lipschitz: across the cell it varies by at most GRADING·0.71·s.
+        // Split until that is small against a, or the cell holds about one point.
+        if s > a && GRADING * 0.71 * s > 0.05 * a {
+            let hs = 0.5 * s;
+            for (ox, oy) in [(0.0, 0.0), (hs, 0.0), (0.0, hs), (hs, hs)] {
+                stack.push(([corner[0] + ox, corner[1] + oy], hs));
+            }
+            continue;
+        }
+        // Lattice rows y = lo + j·dy, every other row shifted by a/2.
+        let dy = a * 3f64.sqrt() / 2.0;
+        let j0 = ((corner[1] - lo[1]) / dy).ceil() as i64;
+        let j1 = ((corner[1] + s - lo[1]) / dy).ceil() as i64; // half-open cell
+        for j in j0..j1 {
+            let y = lo[1] + j as f64 * dy;
+            let shift = if j.rem_euclid(2) == 1 { 0.5 * a } else { 0.0 };
+            let i0 = ((corner[0] - lo[0] - shift) / a).ceil() as i64;
+            let i1 = ((corner[0] + s - lo[0] - shift) / a).ceil() as i64;
+            for i in i0..i1 {
+                let p = [lo[0] + shift + i as f64 * a, y];
+                if convex_depth(&outline.cavity, p) > 0.5 * a {
+                    cand.push((a, p));
+                }
+            }
+        }
+        if cand.len() > 4 * limit {
+            return Err(MesherError::TooLarge {
+                what: "cross-section points (for the tetrahedron limit)",
+                limit,
+            });
+        }
+    }
+    // Finest first, so coarse lattices give way to fine ones at the seams.
+    cand.sort_by(|x, y| x.0.total_cmp(&y.0));
+    let cell = SPACING_FACTOR * field.h_min();
     let key = |p: P2| ((p[0] / cell).floor() as i64, (p[1] / cell).floor() as i64);
     let mut grid: HashMap<(i64, i64), Vec<P2>> = HashMap::new();
     for &p in &outline.points {
         grid.entry(key(p)).or_default().push(p);
     }
-    let near_outline = |c: P2, r: f64| {
+    let near = |grid: &HashMap<(i64, i64), Vec<P2>>, c: P2, r: f64| {
         let (kx, ky) = key(c);
         let n = (r / cell).ceil() as i64;
         for dx in -n..=n {
@@ -75,29 +136,19 @@ fn interior_points(
         false
     };
     let mut out = Vec::new();
-    let mut stack = vec![(lo, side)];
-    while let Some((corner, s)) = stack.pop() {
-        let c = [corner[0] + 0.5 * s, corner[1] + 0.5 * s];
-        if convex_depth(&outline.cavity, c) < -0.71 * s {
-            continue; // wholly outside the cavity
-        }
-        let h = field.h_xy(c);
-        // h is GRADING-Lipschitz, so this bounds h from below over the whole cell.
-        if s > h - GRADING * 0.71 * s {
-            let hs = 0.5 * s;
-            for (ox, oy) in [(0.0, 0.0), (hs, 0.0), (0.0, hs), (hs, hs)] {
-                stack.push(([corner[0] + ox, corner[1] + oy], hs));
-            }
+    for (a, p) in cand {
+        // Outline vertices lie up to h apart along the outline: keep interior points
+        // 0.75 a away from them (and from each other), so no triangle there is flat.
+        if near(&grid, p, 0.75 * a) {
             continue;
         }
-        if convex_depth(&outline.cavity, c) > 0.5 * h && !near_outline(c, 0.55 * h) {
-            out.push(c);
-            if out.len() > limit {
-                return Err(MesherError::TooLarge {
-                    what: "cross-section points (for the tetrahedron limit)",
-                    limit,
-                });
-            }
+        grid.entry(key(p)).or_default().push(p);
+        out.push(p);
+        if out.len() > limit {
+            return Err(MesherError::TooLarge {
+                what: "cross-section points (for the tetrahedron limit)",
+                limit,
+            });
         }
     }
     Ok(out)

@@ -8,10 +8,12 @@ use crate::geometry::{CavityShape, Geometry, LoadShape};
 pub const C0_MM_PER_S: f64 = 299_792_458.0e3;
 
 /// Growth of the element size per unit distance away from a finer region. Sizes rise by
-/// at most 35 % of the distance travelled, so neighbouring elements differ by a factor
-/// of about 1.35 at most: smooth enough for good elements, short enough that the fine
-/// zone around a water load stays a thin shell.
-pub const GRADING: f64 = 0.35;
+/// at most half the distance travelled, so neighbouring elements differ by a factor of
+/// about 1.5 at most (the upper end of the 1.3–1.5 usually taken for smooth grading),
+/// and the fine shell around a water load, (h_air − h)/0.5 wide, stays
+/// thinner than with slower grading; every layer and every cross-section point inside
+/// that shell is repeated through the whole extrusion, so its width costs many tets.
+pub const GRADING: f64 = 0.5;
 
 /// Target element size of one region.
 #[derive(Clone, Debug, PartialEq)]
@@ -167,6 +169,17 @@ pub(crate) fn cavity_height(shape: &CavityShape) -> f64 {
 /// smallest count with N ≥ ∫ ds/h, and the points sit at equal steps of that integral,
 /// which grades the pieces with h.
 pub(crate) fn graded_params(len: f64, h_floor: f64, h: impl Fn(f64) -> f64) -> Vec<f64> {
+    graded_params_with(len, h_floor, h, false)
+}
+
+/// As [`graded_params`], but N is the integral rounded to the nearest count (at least 1),
+/// so pieces average h(t) instead of staying at or below it: used where h is a mean
+/// target (layer thickness) rather than a bound (outline pieces on curved walls).
+pub(crate) fn graded_params_nearest(len: f64, h_floor: f64, h: impl Fn(f64) -> f64) -> Vec<f64> {
+    graded_params_with(len, h_floor, h, true)
+}
+
+fn graded_params_with(len: f64, h_floor: f64, h: impl Fn(f64) -> f64, nearest: bool) -> Vec<f64> {
     if len <= 0.0 {
         return vec![0.0, 1.0];
     }
@@ -184,7 +197,11 @@ pub(crate) fn graded_params(len: f64, h_floor: f64, h: impl Fn(f64) -> f64) -> V
         prev = cur;
     }
     let total = cum[m];
-    let n = (total - 1e-9).ceil().max(1.0) as usize;
+    let n = if nearest {
+        total.round().max(1.0) as usize
+    } else {
+        (total - 1e-9).ceil().max(1.0) as usize
+    };
     let mut out = Vec::with_capacity(n + 1);
     out.push(0.0);
     let mut k = 0;
