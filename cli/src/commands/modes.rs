@@ -1,16 +1,19 @@
 //! `antinode modes`: mesh, memory check, eigen solve, table and files.
 
-use crate::budget;
-use crate::output::json::{ModesDoc, SolveFigures};
-use crate::output::summary::{self, BandSummary, ModeRow, WeylEstimate, GROUP_TOLERANCE};
+use crate::budget::available_bytes;
+use crate::output::json::{ModesDoc, PlanFigures, RegionInfo, SolveFigures};
+use crate::output::spectrum::{self, Spectrum, SpectrumMode};
+use crate::output::summary::{
+    self, BandSummary, GoodCoupling, ModeRow, WeylEstimate, GOOD_COUPLING_REFLECTION,
+    GROUP_TOLERANCE,
+};
 use crate::output::{csv, json, table, vtk_modes};
 use crate::progress::Spinner;
 use crate::units;
 use antinode_mesh::geometry::CavityShape;
-use antinode_solver::dofmap::DofMap;
-use antinode_solver::modes::k0_squared;
-use antinode_solver::problem::{region_materials, settings_from, solve_geometry};
-use antinode_solver::topology::Topology;
+use antinode_solver::budget;
+use antinode_solver::modes::{k0_squared, solve_modes};
+use antinode_solver::problem::{region_materials, settings_from};
 use anyhow::{bail, Context, Result};
 use clap::{Args, ValueEnum};
 use std::path::PathBuf;
@@ -116,57 +119,100 @@ pub fn run(args: &ModesArgs) -> Result<()> {
     let order = settings.order;
 
     let (mesh, mesh_s) = super::mesh::make(&geom)?;
+    let mats = region_materials(&geom, settings.target_hz);
 
-    // Exact unknown count, then the memory estimate, before any assembly.
-    let topo = Topology::new(&mesh);
-    let n = DofMap::new(&topo, mesh.nodes.len(), order, |_| true).n_dofs;
-    drop(topo);
-    let wanted = settings.count.max(1);
-    let est = budget::estimate(n, order, wanted);
-    match budget::available_bytes() {
-        Some(avail) if est.peak_bytes > MEMORY_SHARE * avail && !args.allow_large => bail!(
-            "this solve would need an estimated {} ({} unknowns at order {}: ~{:.2e} matrix \
-             non-zeros, ~{:.2e} factor entries by a rough fit), but only {} is available \
-             (MemAvailable); use --order 1, a smaller --per-wavelength or a larger \
-             --max-size, or pass --allow-large to try anyway",
-            units::bytes(est.peak_bytes),
-            n,
+    // Unknowns and memory from the solver's plan, before any assembly.
+    let plan = budget::plan(&mesh, &mats, &settings);
+    let avail = available_bytes();
+    match avail {
+        Some(a) if plan.memory_bytes > MEMORY_SHARE * a && !args.allow_large => bail!(
+            "this solve would need an estimated {} ({} unknowns at order {}{}, ~{:.2e} factor \
+             entries by the solver's fill estimate), but only {} is available (MemAvailable); \
+             use --order 1, a smaller --per-wavelength or a larger --max-size, or pass \
+             --allow-large to try anyway",
+            units::bytes(plan.memory_bytes),
+            plan.n_dofs,
             order.as_int(),
-            est.matrix_nnz,
-            est.factor_entries,
-            units::bytes(avail)
+            if plan.complex {
+                ", complex: solved as a real system of twice the size"
+            } else {
+                ""
+            },
+            plan.factor_entries,
+            units::bytes(a)
         ),
         Some(_) => {}
         None => eprintln!(
             "note: available memory unknown (/proc/meminfo unreadable); estimated need {}",
-            units::bytes(est.peak_bytes)
+            units::bytes(plan.memory_bytes)
         ),
+    }
+    if args.format == Format::Table {
+        println!(
+            "plan: {} unknowns{}, estimated peak memory {} (solver's estimate){}",
+            plan.n_dofs,
+            if plan.complex { " (complex)" } else { "" },
+            units::bytes(plan.memory_bytes),
+            match avail {
+                Some(a) => format!(", {} available", units::bytes(a)),
+                None => String::new(),
+            }
+        );
     }
 
     let spinner = Spinner::start("solving");
-    let result = solve_geometry(&geom, &mesh, &settings, &mut |s| spinner.stage(s));
+    let result = solve_modes(&mesh, &mats, &settings, &mut |s| spinner.stage(s));
     spinner.finish();
     let set = result.context("eigen solve failed")?;
 
     // Rows and band summary.
     let target_ghz = geom.solve.target;
+    let band_explicit = geom.solve.band.is_some();
     let band = geom.solve.band.unwrap_or(DEFAULT_BAND_GHZ);
     let band_from = band_from.unwrap_or_else(|| {
         "default ISM band, ITU Radio Regulations No. 5.150; not used to choose modes".into()
     });
+    let load_names: Vec<String> = geom.loads.iter().map(|l| l.name.clone()).collect();
+    let port_names: Vec<String> = geom.ports.iter().map(|p| p.name.clone()).collect();
     let rows: Vec<ModeRow> = set
         .modes
         .iter()
         .enumerate()
         .map(|(i, m)| {
             let f = m.frequency_hz * 1e-9;
+            let q = &m.q;
+            let mut balance = vec![q.q_dielectric];
+            balance.extend_from_slice(&q.q_ports);
+            let q_balance = summary::combine_q(&balance);
             ModeRow {
                 index: i + 1,
                 frequency_ghz: f,
+                frequency_imag_ghz: m.frequency_imag_hz * 1e-9,
                 delta_mhz: (f - target_ghz) * 1e3,
                 residual: m.residual,
                 divergence: m.divergence,
                 in_band: f >= band[0] && f <= band[1],
+                q_eigen: m.q_eigen,
+                q_loaded: q.q_loaded,
+                q_unloaded: q.q_unloaded,
+                q_dielectric: q.q_dielectric,
+                q_walls: q.q_walls,
+                q_ports: q.q_ports.clone(),
+                coupling: q.coupling.clone(),
+                reflection: q.reflection.clone(),
+                load_power_fraction: q.load_power_fraction.clone(),
+                load_energy_fraction: load_names
+                    .iter()
+                    .cloned()
+                    .zip(q.load_energy_fraction.iter().copied())
+                    .collect(),
+                bandwidth_mhz: if q.q_loaded.is_finite() {
+                    f * 1e3 / q.q_loaded
+                } else {
+                    0.0
+                },
+                q_balance,
+                q_check_relative: summary::q_check(m.q_eigen, q_balance),
             }
         })
         .collect();
@@ -180,7 +226,6 @@ pub fn run(args: &ModesArgs) -> Result<()> {
         || ((k0_squared(band[1] * 1e9) - sigma) < reach
             && (sigma - k0_squared(band[0] * 1e9)) < reach);
 
-    let mats = region_materials(&geom, settings.target_hz);
     let vols = mesh.region_volumes();
     let weyl = if let (CavityShape::Box { size }, true) = (geom.cavity.shape, geom.loads.is_empty())
     {
@@ -222,6 +267,45 @@ pub fn run(args: &ModesArgs) -> Result<()> {
         (Some(a), Some(b)) if groups.len() > 1 => Some((b - a) * 1e-6 / (groups.len() - 1) as f64),
         _ => None,
     };
+    let all: Vec<(f64, f64)> = rows.iter().map(|r| (r.frequency_ghz, r.q_loaded)).collect();
+    let in_band_idx: Vec<usize> = (0..rows.len()).filter(|&i| rows[i].in_band).collect();
+    let modal_overlap = summary::modal_overlap(&all, &in_band_idx);
+    let good_coupling: Vec<GoodCoupling> = in_band_idx
+        .iter()
+        .flat_map(|&i| {
+            let r = &rows[i];
+            port_names.iter().enumerate().filter_map(move |(p, name)| {
+                let g = *r.reflection.get(p)?;
+                (g <= GOOD_COUPLING_REFLECTION).then(|| GoodCoupling {
+                    index: r.index,
+                    frequency_ghz: r.frequency_ghz,
+                    port: name.clone(),
+                    reflection: g,
+                    load_power_fraction: r.load_power_fraction.get(p).copied().unwrap_or(0.0),
+                })
+            })
+        })
+        .collect();
+    let q_check_max_relative = rows
+        .iter()
+        .filter_map(|r| r.q_check_relative)
+        .map(f64::abs)
+        .reduce(f64::max);
+    let regions: Vec<RegionInfo> = mats
+        .iter()
+        .enumerate()
+        .map(|(i, m)| RegionInfo {
+            id: i as u32,
+            name: if i == 0 {
+                "air".into()
+            } else {
+                load_names.get(i - 1).cloned().unwrap_or_default()
+            },
+            eps_real: m.eps_real,
+            eps_imag: m.eps_imag,
+            mu_r: m.mu_r,
+        })
+        .collect();
     let st = &set.stats;
     let doc = ModesDoc {
         geometry: args.geometry.display().to_string(),
@@ -230,11 +314,19 @@ pub fn run(args: &ModesArgs) -> Result<()> {
         band_ghz: band,
         order: order.as_int(),
         unknowns: st.n_dofs,
+        ports: port_names.clone(),
+        regions,
+        wall_conductivity: settings.wall_conductivity,
         field_scaling: if args.no_fields {
             "no field files written".into()
         } else {
-            "E in V/m and H in A/m for 1 J of stored energy per mode".into()
+            format!(
+                "E in V/m, H in A/m and {} in W/m³, all for 1 J of stored energy per mode \
+                 (peak phasor amplitudes)",
+                vtk_modes::HEATING
+            )
         },
+        infinite_q: "an infinite Q (no such loss) is written as null".into(),
         modes: rows,
         band_summary: BandSummary {
             band_ghz: band,
@@ -245,10 +337,15 @@ pub fn run(args: &ModesArgs) -> Result<()> {
             distinct_frequencies: groups.len(),
             group_tolerance_relative: GROUP_TOLERANCE,
             mean_spacing_mhz,
+            modal_overlap,
+            good_coupling,
+            good_coupling_reflection: GOOD_COUPLING_REFLECTION,
+            q_check_max_relative,
         },
         solve: SolveFigures {
             nodes: mesh.nodes.len(),
             tets: mesh.tets.len(),
+            complex: st.complex,
             matrix_nnz: st.matrix_nnz,
             factor_nnz: st.factor_nnz,
             mesh_s,
@@ -258,7 +355,13 @@ pub fn run(args: &ModesArgs) -> Result<()> {
             operator_applications: st.applications,
             restarts: st.restarts,
             spurious_dropped: st.spurious_dropped,
-            memory_estimate: est,
+            plan: PlanFigures {
+                unknowns: plan.n_dofs,
+                complex: plan.complex,
+                factor_entries_estimate: plan.factor_entries,
+                memory_estimate_bytes: plan.memory_bytes,
+                memory_available_bytes: avail,
+            },
         },
     };
 
@@ -266,11 +369,14 @@ pub fn run(args: &ModesArgs) -> Result<()> {
     let dir = super::output_dir(args.out.as_deref(), &args.geometry);
     super::create_dir(&dir)?;
     json::write(&dir.join("modes.json"), &doc)?;
-    csv::write(&dir.join("modes.csv"), &doc.modes)?;
+    csv::write(&dir.join("modes.csv"), &doc.modes, &port_names, &load_names)?;
+    let svg = spectrum_svg(&doc, band_explicit);
+    let svg_path = dir.join("spectrum.svg");
+    std::fs::write(&svg_path, svg)
+        .with_context(|| format!("cannot write {}", svg_path.display()))?;
     if !args.no_fields {
         let spinner = Spinner::start("writing mode fields");
-        let mu: Vec<f64> = mats.iter().map(|m| m.mu_r).collect();
-        let r = vtk_modes::write_all(&dir, &mesh, &set, &mu);
+        let r = vtk_modes::write_all(&dir, &mesh, &set, &mats);
         spinner.finish();
         r?;
     }
@@ -281,11 +387,14 @@ pub fn run(args: &ModesArgs) -> Result<()> {
             table::print(&doc);
             println!();
             if args.no_fields {
-                println!("wrote {}/modes.json and modes.csv", dir.display());
+                println!(
+                    "wrote {}/modes.json, modes.csv and spectrum.svg",
+                    dir.display()
+                );
             } else {
                 println!(
-                    "wrote {}/modes.json, modes.csv, {} mode files (mode_001.vtu …) and \
-                     modes.pvd; fields scaled to 1 J stored energy",
+                    "wrote {}/modes.json, modes.csv, spectrum.svg, {} mode files \
+                     (mode_001.vtu …) and modes.pvd; fields scaled to 1 J stored energy",
                     dir.display(),
                     set.modes.len()
                 );
@@ -293,4 +402,54 @@ pub fn run(args: &ModesArgs) -> Result<()> {
         }
     }
     Ok(())
+}
+
+/// The spectrum picture: the band when one was given or when it holds the target,
+/// otherwise the found modes with three bandwidths either side (and the target).
+fn spectrum_svg(doc: &ModesDoc, band_explicit: bool) -> String {
+    let band = doc.band_summary.band_ghz;
+    let t = doc.target_ghz;
+    let (range, note) = if band_explicit || (t >= band[0] && t <= band[1]) {
+        (
+            band,
+            format!(
+                "range: band {:.3}–{:.3} GHz ({})",
+                band[0], band[1], doc.band_summary.band_from
+            ),
+        )
+    } else {
+        let mut lo = t;
+        let mut hi = t;
+        for r in &doc.modes {
+            let bw = if r.q_loaded.is_finite() {
+                r.frequency_ghz / r.q_loaded
+            } else {
+                0.0
+            };
+            lo = lo.min(r.frequency_ghz - 3.0 * bw);
+            hi = hi.max(r.frequency_ghz + 3.0 * bw);
+        }
+        let pad = ((hi - lo) * 0.05).max(t * 1e-3);
+        (
+            [lo - pad, hi + pad],
+            "range: the target and the modes found, three bandwidths either side".to_string(),
+        )
+    };
+    let modes: Vec<SpectrumMode> = doc
+        .modes
+        .iter()
+        .map(|r| SpectrumMode {
+            index: r.index,
+            frequency_ghz: r.frequency_ghz,
+            q_loaded: r.q_loaded,
+            reflection: r.reflection.clone(),
+        })
+        .collect();
+    spectrum::svg(&Spectrum {
+        title: &doc.title,
+        range_ghz: range,
+        range_note: &note,
+        modes: &modes,
+        ports: &doc.ports,
+    })
 }

@@ -1,16 +1,34 @@
 //! `modes.json`: the whole result of `antinode modes` as one JSON document.
+//!
+//! Infinite quality factors are written as `null` (JSON has no infinity).
 
 use super::summary::{BandSummary, ModeRow};
-use crate::budget::Estimate;
 use anyhow::{Context, Result};
 use serde::Serialize;
 use std::path::Path;
 
-/// Figures of the solve (measured, except `memory_estimate`).
+/// Size of the solve as planned before assembly (`antinode_solver::budget::plan`).
+#[derive(Clone, Debug, Serialize)]
+pub struct PlanFigures {
+    /// Free unknowns counted before assembly (before the port constraints).
+    pub unknowns: usize,
+    /// Whether losses or ports make the problem complex (solved as a real 2n system).
+    pub complex: bool,
+    /// Estimated entries of the sparse factor (solver's fill estimate).
+    pub factor_entries_estimate: f64,
+    /// Estimated peak memory, bytes.
+    pub memory_estimate_bytes: f64,
+    /// MemAvailable from /proc/meminfo when the run started, bytes (None if unreadable).
+    pub memory_available_bytes: Option<f64>,
+}
+
+/// Figures of the solve (measured, except the `plan`).
 #[derive(Clone, Debug, Serialize)]
 pub struct SolveFigures {
     pub nodes: usize,
     pub tets: usize,
+    /// Whether the complex (lossy or fed) path was used.
+    pub complex: bool,
     pub matrix_nnz: usize,
     pub factor_nnz: usize,
     pub mesh_s: f64,
@@ -20,8 +38,20 @@ pub struct SolveFigures {
     pub operator_applications: usize,
     pub restarts: usize,
     pub spurious_dropped: usize,
-    /// The estimate made before assembly (see `budget.rs` for its basis).
-    pub memory_estimate: Estimate,
+    pub plan: PlanFigures,
+}
+
+/// One mesh region: its id in the `.vtu` files (`region` cell data) and its material
+/// constants at the target frequency.
+#[derive(Clone, Debug, Serialize)]
+pub struct RegionInfo {
+    pub id: u32,
+    /// "air" or the load's name.
+    pub name: String,
+    pub eps_real: f64,
+    /// ε″ (loss factor); heating is (ω ε0 ε″ / 2)|E|².
+    pub eps_imag: f64,
+    pub mu_r: f64,
 }
 
 /// The document written to `modes.json` (and printed by `--format json`).
@@ -33,9 +63,18 @@ pub struct ModesDoc {
     /// Band used for the in-band flags and the summary, GHz.
     pub band_ghz: [f64; 2],
     pub order: u8,
+    /// Unknowns of the eigenproblem (after the port constraints).
     pub unknowns: usize,
+    /// Port names, in the order of the per-port arrays (`q_ports`, `coupling`, …).
+    pub ports: Vec<String>,
+    /// Region ids of the `.vtu` files with their names and materials.
+    pub regions: Vec<RegionInfo>,
+    /// Wall conductivity, S/m (None: perfect conductor, no wall loss).
+    pub wall_conductivity: Option<f64>,
     /// Scaling of the written fields.
     pub field_scaling: String,
+    /// How infinite values are written.
+    pub infinite_q: String,
     pub modes: Vec<ModeRow>,
     pub band_summary: BandSummary,
     pub solve: SolveFigures,

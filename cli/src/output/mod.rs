@@ -1,7 +1,8 @@
-//! Results as terminal tables, JSON, CSV and VTK files.
+//! Results as terminal tables, JSON, CSV, VTK files and the spectrum picture.
 
 pub mod csv;
 pub mod json;
+pub mod spectrum;
 pub mod summary;
 pub mod table;
 pub mod vtk_modes;

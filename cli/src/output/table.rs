@@ -1,30 +1,144 @@
-//! The terminal table and band summary of `antinode modes`.
+//! The terminal tables and band summary of `antinode modes`: first frequencies and
+//! checks, then Q and power (kept within about 100 columns for one or two ports).
 
 use super::json::ModesDoc;
 use super::summary::GROUP_TOLERANCE;
 use crate::units;
 
+/// A quality factor for the table: `∞` when infinite, 3 significant figures otherwise.
+pub fn q_text(q: f64) -> String {
+    if !q.is_finite() {
+        "∞".into()
+    } else if q >= 1e6 {
+        format!("{q:.2e}")
+    } else if q >= 100.0 {
+        format!("{q:.0}")
+    } else if q >= 10.0 {
+        format!("{q:.1}")
+    } else {
+        format!("{q:.2}")
+    }
+}
+
+fn short(name: &str, width: usize) -> String {
+    name.chars().take(width).collect()
+}
+
 pub fn print(doc: &ModesDoc) {
     println!("{}", doc.title);
     println!(
-        "target {} GHz, Nédélec order {}, {} unknowns",
-        doc.target_ghz, doc.order, doc.unknowns
+        "target {} GHz, Nédélec order {}, {} unknowns{}",
+        doc.target_ghz,
+        doc.order,
+        doc.unknowns,
+        if doc.solve.complex {
+            " (complex: lossy loads or ports)"
+        } else {
+            ""
+        }
     );
     println!();
+    println!("Frequencies and checks");
     println!(
-        "{:>5}  {:>16}  {:>12}  {:>10}  {:>7}",
-        "mode", "frequency (GHz)", "Δ target MHz", "residual", "in band"
+        "{:>5}  {:>12}  {:>9}  {:>9}  {:>9}  {:>9}  {:>7}  {:>10}",
+        "mode", "f (GHz)", "Δf (MHz)", "f″ (MHz)", "residual", "div", "in band", "Q check"
     );
     for r in &doc.modes {
+        let check = match r.q_check_relative {
+            Some(c) if c.is_finite() => format!("{c:+.1e}"),
+            Some(_) => "fails".into(),
+            None => "—".into(),
+        };
         println!(
-            "{:>5}  {:>16.6}  {:>+12.3}  {:>10.2e}  {:>7}",
+            "{:>5}  {:>12.6}  {:>+9.3}  {:>9.4}  {:>9.2e}  {:>9.1e}  {:>7}  {:>10}",
             r.index,
             r.frequency_ghz,
             r.delta_mhz,
+            r.frequency_imag_ghz * 1e3,
             r.residual,
-            if r.in_band { "yes" } else { "-" }
+            r.divergence,
+            if r.in_band { "yes" } else { "-" },
+            check
         );
     }
+    println!(
+        "  Δf: from the target; f″ = Im f (decay rate/2π); residual ‖Kx − λMx‖/(‖K‖‖x‖ + \
+         |λ|‖M‖‖x‖); div: ‖GᵀMx‖/‖Mx‖"
+    );
+    println!(
+        "  Q check (consistency, not a result): Q from the complex eigenvalue, Re f/(2 Im f), \
+         against power balance 1/Q = 1/Q_d + Σ 1/Q_ext, as Q_eig/Q_bal − 1"
+    );
+
+    println!();
+    println!("Q and power");
+    let mut head = format!(
+        "{:>5}  {:>10}  {:>8}  {:>8}  {:>8}  {:>8}",
+        "mode", "f (GHz)", "BW (MHz)", "Q_L", "Q_d", "Q_c"
+    );
+    for p in &doc.ports {
+        let p = short(p, 6);
+        head.push_str(&format!(
+            "  {:>12}  {:>7}  {:>6}  {:>7}",
+            format!("Q_ext {p}"),
+            "κ",
+            "|Γ|",
+            "load %"
+        ));
+    }
+    head.push_str(&format!("  {:>8}", "E load %"));
+    println!("{head}");
+    for r in &doc.modes {
+        let mut line = format!(
+            "{:>5}  {:>10.5}  {:>8}  {:>8}  {:>8}  {:>8}",
+            r.index,
+            r.frequency_ghz,
+            if r.bandwidth_mhz > 0.0 {
+                format!("{:.3}", r.bandwidth_mhz)
+            } else {
+                "0".into()
+            },
+            q_text(r.q_loaded),
+            q_text(r.q_dielectric),
+            q_text(r.q_walls)
+        );
+        for p in 0..doc.ports.len() {
+            let get = |v: &[f64]| v.get(p).copied().unwrap_or(f64::NAN);
+            let kappa = get(&r.coupling);
+            line.push_str(&format!(
+                "  {:>12}  {:>7}  {:>6.3}  {:>7.1}",
+                q_text(get(&r.q_ports)),
+                if kappa.is_finite() {
+                    format!("{kappa:.3}")
+                } else {
+                    "∞".into()
+                },
+                get(&r.reflection),
+                100.0 * get(&r.load_power_fraction)
+            ));
+        }
+        let e_load: f64 = r.load_energy_fraction.values().sum();
+        line.push_str(&format!("  {:>8.1}", 100.0 * e_load));
+        println!("{line}");
+    }
+    if doc.ports.is_empty() {
+        println!("  Q_ext: — (no ports: the cavity is closed)");
+    }
+    println!(
+        "  BW = f/Q_L; Q_L: loaded, Q_d: loads' dielectric loss, Q_c: walls{}; ∞ = no such loss",
+        match doc.wall_conductivity {
+            Some(s) => format!(" (σ = {s:.3e} S/m, surface-resistance perturbation)"),
+            None => " (PEC: no wall loss)".into(),
+        }
+    );
+    if !doc.ports.is_empty() {
+        println!(
+            "  κ = Q0/Q_ext (other ports as losses); |Γ| at resonance = |1 − κ|/(1 + κ); load % = \
+             share of that port's forward power absorbed in the loads at resonance"
+        );
+    }
+    println!("  E load % = share of the stored electric energy inside the loads");
+
     let b = &doc.band_summary;
     println!();
     println!(
@@ -55,17 +169,72 @@ pub fn print(doc: &ModesDoc) {
         Some(s) => println!("  mean spacing between distinct frequencies: {s:.2} MHz"),
         None => println!("  mean spacing: needs two distinct frequencies in the band"),
     }
+    match b.modal_overlap {
+        Some(m) => println!(
+            "  modal overlap: {m:.2} (mean number of other modes within ±f/(2Q_L) of each in-band mode)"
+        ),
+        None => println!("  modal overlap: — (no in-band mode with a finite Q_L)"),
+    }
+    if !doc.ports.is_empty() {
+        if b.good_coupling.is_empty() {
+            println!(
+                "  feed couples well (|Γ| ≤ {} at resonance; threshold: common practice, no source): no in-band mode",
+                b.good_coupling_reflection
+            );
+        } else {
+            let list: Vec<String> = b
+                .good_coupling
+                .iter()
+                .map(|g| {
+                    let port = if doc.ports.len() > 1 {
+                        format!(" {}", g.port)
+                    } else {
+                        String::new()
+                    };
+                    format!(
+                        "{:.4} GHz (mode {}{port}, |Γ| {:.2}, load {:.0} %)",
+                        g.frequency_ghz,
+                        g.index,
+                        g.reflection,
+                        100.0 * g.load_power_fraction
+                    )
+                })
+                .collect();
+            println!(
+                "  feed couples well (|Γ| ≤ {} at resonance; threshold: common practice, no source) at:",
+                b.good_coupling_reflection
+            );
+            for l in list {
+                println!("    {l}");
+            }
+        }
+    }
+    if let Some(c) = b.q_check_max_relative {
+        println!(
+            "  check: Q from the eigenvalue vs power balance, largest |Q_eig/Q_bal − 1| = {c:.1e}"
+        );
+    }
     let s = &doc.solve;
     println!();
     println!(
-        "solve: {} unknowns, {} matrix non-zeros, factor {} entries (estimated before \
-         assembly: {:.3e}, rough fit); estimated peak memory {} (rough); mesh {:.2} s, assembly {:.2} s, factorisation {:.2} s, \
-         eigen {:.2} s ({} solves, {} restarts); spurious fields dropped: {}",
+        "solve: {} unknowns ({}), {} matrix non-zeros, factor {} entries (planned before \
+         assembly: {:.3e}, estimate); planned peak memory {} (estimate{}); mesh {:.2} s, \
+         assembly {:.2} s, factorisation {:.2} s, eigen {:.2} s ({} solves, {} restarts); \
+         spurious fields dropped: {}",
         doc.unknowns,
+        if s.complex {
+            "complex, solved as a real 2n system"
+        } else {
+            "real"
+        },
         s.matrix_nnz,
         s.factor_nnz,
-        s.memory_estimate.factor_entries,
-        units::bytes(s.memory_estimate.peak_bytes),
+        s.plan.factor_entries_estimate,
+        units::bytes(s.plan.memory_estimate_bytes),
+        match s.plan.memory_available_bytes {
+            Some(a) => format!("; {} available", units::bytes(a)),
+            None => String::new(),
+        },
         s.mesh_s,
         s.assembly_s,
         s.factor_s,
