@@ -12,7 +12,16 @@
 //! The price: the cross-section is as fine everywhere above and below a load as in the
 //! load, and layers as thin across the whole cavity as in the finest load at that
 //! height, giving flat or tall prisms in the air there. Grading limits that to a shell
-//! around each load; [`crate::quality`] reports the resulting angles.
+//! around each load: 1.5× per element across the section ([`GRADING`]), and 2× per layer
+//! along z ([`GRADING_Z`]), where a jump changes prism aspect but no triangle's
+//! angles. [`crate::quality`] reports the resulting angles.
+//!
+//! Not done (why): coarser cross-sections in z-slabs away from a fine load would remove
+//! most of the remaining air tets above and below it, but two different triangulations
+//! only meet conformingly through a transition layer of tetrahedra (the fine one a
+//! refinement of the coarse one, each coarse column coned to an interior point, the
+//! split side faces triangulated alike from both columns, wall vertices shared so cylinder
+//! walls stay exact). That needs its own conformity tests and is left for later.
 
 mod extrude;
 mod outline;
@@ -21,7 +30,7 @@ mod sizing;
 
 pub use extrude::MAX_TETS;
 pub use planar::MAX_2D_POINTS;
-pub use sizing::{element_sizes, RegionSize, C0_MM_PER_S, GRADING};
+pub use sizing::{element_sizes, RegionSize, C0_MM_PER_S, GRADING, GRADING_Z};
 
 use crate::geometry::Geometry;
 use crate::tet_mesh::TetMesh;

@@ -15,6 +15,13 @@ pub const C0_MM_PER_S: f64 = 299_792_458.0e3;
 /// that shell is repeated through the whole extrusion, so its width costs many tets.
 pub const GRADING: f64 = 0.5;
 
+/// Growth of the layer thickness per unit height away from a finer load: thicknesses
+/// may double from one layer to the next. Along z the prisms keep their triangles, so a
+/// thickness jump only changes the aspect of the prisms on either side of it, never the
+/// angles of a triangle; the layers at a fine load's height run across the whole
+/// cross-section, so leaving that height fast removes whole layers.
+pub const GRADING_Z: f64 = 1.0;
+
 /// Target element size of one region.
 #[derive(Clone, Debug, PartialEq)]
 pub struct RegionSize {
@@ -144,13 +151,14 @@ impl SizeField {
             .fold(self.h_air, f64::min)
     }
 
-    /// Layer thickness at height z: the same rule along z with the loads' z-ranges.
+    /// Layer thickness at height z: the same rule along z with the loads' z-ranges and
+    /// GRADING_Z.
     pub fn h_z(&self, z: f64) -> f64 {
         self.loads
             .iter()
             .map(|l| {
                 let [b, t] = l.z_range();
-                l.h + GRADING * (b - z).max(z - t).max(0.0)
+                l.h + GRADING_Z * (b - z).max(z - t).max(0.0)
             })
             .fold(self.h_air, f64::min)
     }
