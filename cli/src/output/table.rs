@@ -117,8 +117,12 @@ pub fn print(doc: &ModesDoc) {
                 100.0 * get(&r.load_power_fraction)
             ));
         }
-        let e_load: f64 = r.load_energy_fraction.values().sum();
-        line.push_str(&format!("  {:>8.1}", 100.0 * e_load));
+        if r.load_energy_fraction.is_empty() {
+            line.push_str(&format!("  {:>8}", "—"));
+        } else {
+            let e_load: f64 = r.load_energy_fraction.values().sum();
+            line.push_str(&format!("  {:>8.1}", 100.0 * e_load));
+        }
         println!("{line}");
     }
     if doc.ports.is_empty() {
