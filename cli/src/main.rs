@@ -44,11 +44,15 @@ enum Command {
     Mesh(commands::mesh::MeshArgs),
     /// Find the resonant modes near the target frequency (or every mode in a band).
     ///
-    /// Meshes the geometry, checks that the problem fits in memory, solves Maxwell's
-    /// eigenproblem with Nédélec edge elements and prints each mode's frequency, distance
-    /// from the target and residual, plus a band summary (count, Weyl's-law estimate,
-    /// distinct frequency groups, spacing). Writes DIR/modes.json, DIR/modes.csv and,
-    /// unless --no-fields, one DIR/mode_NNN.vtu per mode with a DIR/modes.pvd collection.
+    /// Meshes the geometry, checks the solver's plan (unknowns, memory) against the memory
+    /// available, solves Maxwell's eigenproblem with Nédélec edge elements (lossy loads,
+    /// metal walls and matched TE10 ports included) and prints two tables: frequencies
+    /// with their checks, then loaded Q, the Q of the loads, walls and each port, the
+    /// feed's coupling κ and reflection |Γ| and the share of forward power heating the
+    /// loads; then a band summary (count, Weyl's-law estimate, spacing, modal overlap,
+    /// frequencies where the feed couples well). Writes DIR/modes.json, DIR/modes.csv,
+    /// DIR/spectrum.svg and, unless --no-fields, one DIR/mode_NNN.vtu per mode (E, H and
+    /// heating density for 1 J of stored energy) with a DIR/modes.pvd collection.
     Modes(commands::modes::ModesArgs),
     /// List the built-in materials with permittivity and loss at a frequency (metals:
     /// conductivity and surface resistance), with the source of each value.
