@@ -70,6 +70,9 @@ impl Basis {
         }
     }
 
+    /// Orthogonalise the columns of `cand` against the basis (block classical
+    /// Gram–Schmidt twice, then modified Gram–Schmidt inside the block), append those
+    /// that keep a significant part, and apply T to them.
     fn extend<O: ComplexOperator>(
         &mut self,
         op: &O,
@@ -77,29 +80,41 @@ impl Basis {
         applications: &mut usize,
     ) -> usize {
         let start = self.used;
-        for j in 0..cand.ncols() {
-            if self.used == self.capacity() {
-                break;
+        let k = cand.ncols().min(self.capacity() - start);
+        if k == 0 {
+            return 0;
+        }
+        let mut c = cand.get(.., ..k).to_owned();
+        let norm0: Vec<f64> = (0..k)
+            .map(|j| c.as_ref().get(.., j..j + 1).norm_l2())
+            .collect();
+        if start > 0 {
+            for _ in 0..2 {
+                let coef = self.v.as_ref().get(.., ..start).adjoint() * c.as_ref();
+                c -= self.v.as_ref().get(.., ..start) * &coef;
             }
-            let mut c = cand.get(.., j..j + 1).to_owned();
-            let norm0 = c.norm_l2();
-            if norm0 == 0.0 || !norm0.is_finite() {
+        }
+        for j in 0..k {
+            if self.used == self.capacity() || norm0[j] == 0.0 || !norm0[j].is_finite() {
                 continue;
             }
+            let mut cj = c.as_ref().get(.., j..j + 1).to_owned();
             for _ in 0..2 {
-                let u = self.used;
-                let coef = self.v.as_ref().get(.., ..u).adjoint() * c.as_ref();
-                c -= self.v.as_ref().get(.., ..u) * &coef;
+                let (s, u) = (start, self.used);
+                if u > s {
+                    let coef = self.v.as_ref().get(.., s..u).adjoint() * cj.as_ref();
+                    cj -= self.v.as_ref().get(.., s..u) * &coef;
+                }
             }
-            let nrm = c.norm_l2();
-            if nrm < 1e-8 * norm0 {
+            let nrm = cj.norm_l2();
+            if nrm < 1e-8 * norm0[j] {
                 continue;
             }
             let u = self.used;
             self.v
                 .as_mut()
                 .get_mut(.., u..u + 1)
-                .copy_from(c.as_ref() * faer::Scale(c64::new(1.0 / nrm, 0.0)));
+                .copy_from(cj.as_ref() * faer::Scale(c64::new(1.0 / nrm, 0.0)));
             self.used += 1;
         }
         let added = self.used - start;
@@ -165,14 +180,25 @@ pub fn solve<O: ComplexOperator>(
             SolverError::InvalidSetting(format!("projected eigenproblem failed: {e:?}"))
         })?;
         let s = evd.S().column_vector();
-        let mut order: Vec<usize> = (0..u).collect();
-        order.sort_by(|&a, &b| s[b].norm().total_cmp(&s[a].norm()));
+        let abs: Vec<f64> = (0..u).map(|i| s[i].norm()).collect();
+        let kernel = c64::new(wanted.kernel_theta.unwrap_or(f64::NAN), 0.0);
+        let dist: Vec<f64> = (0..u).map(|i| (s[i] - kernel).norm()).collect();
+        let order = wanted.order(&abs, &dist);
         let theta: Vec<c64> = order.iter().map(|&i| s[i]).collect();
+        let usable = wanted.usable(&order.iter().map(|&i| dist[i]).collect::<Vec<_>>());
         let nw = match wanted.theta_min {
-            None => wanted.nearest.min(u),
+            None => wanted.nearest.min(usable),
             Some(tmin) => {
-                let inside = theta.iter().filter(|t| t.norm() >= tmin).count();
-                wanted.nearest.max(inside + 1).min(wanted.max + 1).min(u)
+                let inside = theta
+                    .iter()
+                    .take(usable)
+                    .filter(|t| t.norm() >= tmin)
+                    .count();
+                wanted
+                    .nearest
+                    .max(inside + 1)
+                    .min(wanted.max + 1)
+                    .min(usable)
             }
         };
         let keep = (nw + p)
@@ -198,7 +224,7 @@ pub fn solve<O: ComplexOperator>(
             wanted: nw,
             applications,
         });
-        if converged == nw {
+        if converged == nw && nw >= wanted.nearest.min(u) {
             let count = match wanted.theta_min {
                 None => nw,
                 Some(tmin) => theta
@@ -224,6 +250,9 @@ pub fn solve<O: ComplexOperator>(
             });
         }
         if restarts >= opts.max_restarts {
+            if usable == 0 {
+                return Err(SolverError::TargetBelowModes);
+            }
             return Err(SolverError::NotConverged {
                 found: converged,
                 wanted: nw,

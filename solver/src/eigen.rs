@@ -33,12 +33,45 @@ pub trait ShiftInvertOperator: Sync {
 
 /// Which eigenvalues are wanted, in terms of θ = 1/(λ − σ): at least the `nearest`
 /// ones with largest |θ|, and every one with |θ| ≥ `theta_min` (|λ − σ| ≤ 1/theta_min),
-/// but never more than `max`.
+/// but never more than `max`. Ritz values within a relative 1e-6 of `kernel_theta`
+/// (θ = −1/σ, the image of λ = 0: gradient fields) are never wanted; without this, a
+/// shift below the lowest resonance would return the kernel instead of modes.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Wanted {
     pub nearest: usize,
     pub theta_min: Option<f64>,
     pub max: usize,
+    pub kernel_theta: Option<f64>,
+}
+
+impl Wanted {
+    /// Whether the Ritz value `theta` (given by its distance to the kernel image and its
+    /// size) belongs to the kernel.
+    pub fn is_kernel(&self, distance_to_kernel: f64) -> bool {
+        self.kernel_theta
+            .is_some_and(|k| distance_to_kernel <= 1e-6 * k.abs())
+    }
+
+    /// Order Ritz values by decreasing |θ|, kernel images last.
+    pub fn order(&self, abs_theta: &[f64], distance_to_kernel: &[f64]) -> Vec<usize> {
+        let mut order: Vec<usize> = (0..abs_theta.len()).collect();
+        order.sort_by(|&a, &b| {
+            let (ka, kb) = (
+                self.is_kernel(distance_to_kernel[a]),
+                self.is_kernel(distance_to_kernel[b]),
+            );
+            ka.cmp(&kb).then(abs_theta[b].total_cmp(&abs_theta[a]))
+        });
+        order
+    }
+
+    /// Number of leading (ordered) Ritz values that are not kernel images.
+    pub fn usable(&self, ordered_distance: &[f64]) -> usize {
+        ordered_distance
+            .iter()
+            .take_while(|&&d| !self.is_kernel(d))
+            .count()
+    }
 }
 
 /// Tuning of the iteration.
@@ -59,10 +92,10 @@ pub struct EigenOptions {
 impl Default for EigenOptions {
     fn default() -> Self {
         Self {
-            block: 8,
-            basis: 64,
-            tol: 1e-10,
-            max_restarts: 60,
+            block: 6,
+            basis: 80,
+            tol: 1e-8,
+            max_restarts: 80,
             seed: 0x5eed,
         }
     }
@@ -130,6 +163,10 @@ impl Basis {
 
     /// M-orthogonalise the columns of `cand` against the basis and append the ones that
     /// keep a significant part; returns the number appended. T is applied to them.
+    ///
+    /// Block classical Gram–Schmidt, twice, against the basis (two matrix products that
+    /// read the basis once per block instead of once per column), then modified
+    /// Gram–Schmidt inside the block.
     fn extend<O: ShiftInvertOperator>(
         &mut self,
         op: &O,
@@ -138,39 +175,51 @@ impl Basis {
     ) -> usize {
         let n = self.v.nrows();
         let start = self.used;
-        let mut mc = Mat::<f64>::zeros(n, 1);
-        for j in 0..cand.ncols() {
-            if self.used == self.capacity() {
-                break;
+        let k = cand.ncols().min(self.capacity() - start);
+        if k == 0 {
+            return 0;
+        }
+        let mut c = cand.get(.., ..k).to_owned();
+        let norm0: Vec<f64> = (0..k)
+            .map(|j| c.as_ref().get(.., j..j + 1).norm_l2())
+            .collect();
+        if start > 0 {
+            for _ in 0..2 {
+                let coef = self.mv.as_ref().get(.., ..start).transpose() * c.as_ref();
+                c -= self.v.as_ref().get(.., ..start) * &coef;
             }
-            let mut c = cand.get(.., j..j + 1).to_owned();
-            let norm0 = c.norm_l2();
-            if norm0 == 0.0 || !norm0.is_finite() {
+        }
+        let mut mc = Mat::<f64>::zeros(n, 1);
+        for j in 0..k {
+            if self.used == self.capacity() || norm0[j] == 0.0 || !norm0[j].is_finite() {
                 continue;
             }
+            let mut cj = c.as_ref().get(.., j..j + 1).to_owned();
             for _ in 0..2 {
-                let u = self.used;
-                let coef = self.mv.as_ref().get(.., ..u).transpose() * c.as_ref();
-                c -= self.v.as_ref().get(.., ..u) * &coef;
+                let (s, u) = (start, self.used);
+                if u > s {
+                    let coef = self.mv.as_ref().get(.., s..u).transpose() * cj.as_ref();
+                    cj -= self.v.as_ref().get(.., s..u) * &coef;
+                }
             }
-            if c.norm_l2() < 1e-8 * norm0 {
+            if cj.norm_l2() < 1e-8 * norm0[j] {
                 continue; // already (numerically) in the span
             }
-            op.mass(c.as_ref(), mc.as_mut());
-            let mnorm2 = (c.as_ref().transpose() * mc.as_ref())[(0, 0)];
+            op.mass(cj.as_ref(), mc.as_mut());
+            let mnorm2 = (cj.as_ref().transpose() * mc.as_ref())[(0, 0)];
             if mnorm2 <= 0.0 || !mnorm2.is_finite() {
                 continue;
             }
-            let s = 1.0 / mnorm2.sqrt();
+            let sc = 1.0 / mnorm2.sqrt();
             let u = self.used;
             self.v
                 .as_mut()
                 .get_mut(.., u..u + 1)
-                .copy_from(c.as_ref() * faer::Scale(s));
+                .copy_from(cj.as_ref() * faer::Scale(sc));
             self.mv
                 .as_mut()
                 .get_mut(.., u..u + 1)
-                .copy_from(mc.as_ref() * faer::Scale(s));
+                .copy_from(mc.as_ref() * faer::Scale(sc));
             self.used += 1;
         }
         let added = self.used - start;
@@ -238,16 +287,28 @@ pub fn solve<O: ShiftInvertOperator>(
             SolverError::InvalidSetting(format!("projected eigenproblem failed: {e:?}"))
         })?;
         let s_diag = evd.S().column_vector();
-        let mut order: Vec<usize> = (0..u).collect();
-        order.sort_by(|&a, &b| s_diag[b].abs().total_cmp(&s_diag[a].abs()));
+        let abs: Vec<f64> = (0..u).map(|i| s_diag[i].abs()).collect();
+        let dist: Vec<f64> = (0..u)
+            .map(|i| (s_diag[i] - wanted.kernel_theta.unwrap_or(f64::NAN)).abs())
+            .collect();
+        let order = wanted.order(&abs, &dist);
         let theta: Vec<f64> = order.iter().map(|&i| s_diag[i]).collect();
+        let usable = wanted.usable(&order.iter().map(|&i| dist[i]).collect::<Vec<_>>());
         let nw = match wanted.theta_min {
-            None => wanted.nearest.min(u),
+            None => wanted.nearest.min(usable),
             Some(theta_min) => {
                 // All inside the radius plus one beyond it, which must also have converged
                 // so that nothing inside can still be missing.
-                let inside = theta.iter().filter(|t| t.abs() >= theta_min).count();
-                wanted.nearest.max(inside + 1).min(wanted.max + 1).min(u)
+                let inside = theta
+                    .iter()
+                    .take(usable)
+                    .filter(|t| t.abs() >= theta_min)
+                    .count();
+                wanted
+                    .nearest
+                    .max(inside + 1)
+                    .min(wanted.max + 1)
+                    .min(usable)
             }
         };
         // Ritz vectors of the leading part and their residuals.
@@ -277,9 +338,13 @@ pub fn solve<O: ShiftInvertOperator>(
             wanted: nw,
             applications,
         });
-        let done = converged == nw;
+        // Fewer usable Ritz values than requested (the kernel crowds the basis): go on.
+        let done = converged == nw && nw >= wanted.nearest.min(u);
         if done || restarts >= opts.max_restarts {
             if !done {
+                if usable == 0 {
+                    return Err(SolverError::TargetBelowModes);
+                }
                 return Err(SolverError::NotConverged {
                     found: converged,
                     wanted: nw,

@@ -24,6 +24,10 @@ pub enum SolverError {
         tol: f64,
         restarts: usize,
     },
+    /// The shift lies so far below the lowest resonance that static (gradient) fields
+    /// fill the search space.
+    #[error("the target frequency lies far below the cavity's lowest resonance, so the search finds only static (zero-frequency) fields; raise the target (--target) towards the band of interest")]
+    TargetBelowModes,
     /// A parameter was out of range.
     #[error("invalid solver setting: {0}")]
     InvalidSetting(String),

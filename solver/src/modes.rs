@@ -41,6 +41,9 @@ use std::time::Instant;
 /// Speed of light in vacuum, m/s (exact, SI).
 pub const C0: f64 = 299_792_458.0;
 
+/// Extra modes sought beyond the requested count (see [`solve_modes`]).
+pub const COUNT_MARGIN: usize = 4;
+
 /// Divergence figure above which a computed field is treated as a gradient (spurious).
 /// True modes reach round-off level (≈1e-10); gradients are O(1).
 pub const SPURIOUS_DIVERGENCE: f64 = 1e-5;
@@ -419,10 +422,14 @@ pub fn solve_modes(
             .max((sigma - k0_squared(lo)).abs());
         1.0 / r
     });
+    // A few more than asked: spurious fields are dropped after the iteration, and the
+    // final choice of the `count` nearest is made on the real frequency axis, where
+    // strongly damped modes sit nearer than in the complex λ plane.
     let wanted = Wanted {
-        nearest: settings.count,
+        nearest: settings.count + COUNT_MARGIN,
         theta_min,
         max: settings.max_modes,
+        kernel_theta: Some(-1.0 / sigma),
     };
     // Measured on 2 cores: the sequential supernodal kernels beat the threaded ones here.
     let par = Par::Seq;
@@ -689,7 +696,7 @@ pub fn solve_modes(
         .zip(integrals)
         .map(
             |((lambda, f, q_eigen, residual, divergence, xr, xi, amp), integrals)| {
-                let ports: Vec<PortPower> = settings
+                let mut ports: Vec<PortPower> = settings
                     .ports
                     .iter()
                     .enumerate()
@@ -698,13 +705,46 @@ pub fn solve_modes(
                         beta: fr.beta(f.re * 2.0 * std::f64::consts::PI / C0).re,
                     })
                     .collect();
-                let q = mode_q(
+                let mut q = mode_q(
                     f.re,
                     &integrals,
                     materials,
                     settings.wall_conductivity,
                     &ports,
                 );
+                // The aperture amplitudes come from the eigenvector computed with β at the
+                // target; the refined eigenvalue is accurate to second order, the amplitudes
+                // only to first. So the total port damping is taken from the refined
+                // eigenvalue (1/Q_ext = 1/Q_eigen − 1/Q_d, exact for the linear problem)
+                // and shared among ports as the power balance shares it. The correction
+                // is skipped when the subtraction is not meaningful (port damping lost in
+                // the dielectric one, or a factor outside [1/2, 2]).
+                let inv_ext_balance: f64 = q
+                    .q_ports
+                    .iter()
+                    .map(|&x| 1.0 / x)
+                    .filter(|x| x.is_finite())
+                    .sum();
+                if n_ports > 0 && q_eigen.is_finite() && inv_ext_balance > 0.0 {
+                    let inv_d = if q.q_dielectric.is_finite() {
+                        1.0 / q.q_dielectric
+                    } else {
+                        0.0
+                    };
+                    let scale = (1.0 / q_eigen - inv_d) / inv_ext_balance;
+                    if (0.5..=2.0).contains(&scale) {
+                        for p in ports.iter_mut() {
+                            p.amplitude2_norm *= scale;
+                        }
+                        q = mode_q(
+                            f.re,
+                            &integrals,
+                            materials,
+                            settings.wall_conductivity,
+                            &ports,
+                        );
+                    }
+                }
                 Mode {
                     k0_squared: lambda.re,
                     k0_squared_imag: lambda.im,
@@ -721,6 +761,22 @@ pub fn solve_modes(
             },
         )
         .collect();
+    // Keep every mode in the band and the `count` nearest the target.
+    modes.sort_by(|a, b| {
+        (a.frequency_hz - settings.target_hz)
+            .abs()
+            .total_cmp(&(b.frequency_hz - settings.target_hz).abs())
+    });
+    let in_band = |m: &Mode| {
+        settings
+            .band_hz
+            .is_some_and(|[lo, hi]| m.frequency_hz >= lo && m.frequency_hz <= hi)
+    };
+    let mut rank = 0;
+    modes.retain(|m| {
+        rank += 1;
+        rank <= settings.count || in_band(m)
+    });
     modes.sort_by(|a, b| a.frequency_hz.total_cmp(&b.frequency_hz));
     let stats = SolveStats {
         n_dofs: n,
