@@ -94,8 +94,8 @@ impl Basis {
                 c -= self.v.as_ref().get(.., ..start) * &coef;
             }
         }
-        for j in 0..k {
-            if self.used == self.capacity() || norm0[j] == 0.0 || !norm0[j].is_finite() {
+        for (j, &nrm0) in norm0.iter().enumerate() {
+            if self.used == self.capacity() || nrm0 == 0.0 || !nrm0.is_finite() {
                 continue;
             }
             let mut cj = c.as_ref().get(.., j..j + 1).to_owned();
@@ -107,7 +107,7 @@ impl Basis {
                 }
             }
             let nrm = cj.norm_l2();
-            if nrm < 1e-8 * norm0[j] {
+            if nrm < 1e-8 * nrm0 {
                 continue;
             }
             let u = self.used;

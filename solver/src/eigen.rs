@@ -190,8 +190,8 @@ impl Basis {
             }
         }
         let mut mc = Mat::<f64>::zeros(n, 1);
-        for j in 0..k {
-            if self.used == self.capacity() || norm0[j] == 0.0 || !norm0[j].is_finite() {
+        for (j, &nrm0) in norm0.iter().enumerate() {
+            if self.used == self.capacity() || nrm0 == 0.0 || !nrm0.is_finite() {
                 continue;
             }
             let mut cj = c.as_ref().get(.., j..j + 1).to_owned();
@@ -202,7 +202,7 @@ impl Basis {
                     cj -= self.v.as_ref().get(.., s..u) * &coef;
                 }
             }
-            if cj.norm_l2() < 1e-8 * norm0[j] {
+            if cj.norm_l2() < 1e-8 * nrm0 {
                 continue; // already (numerically) in the span
             }
             op.mass(cj.as_ref(), mc.as_mut());
