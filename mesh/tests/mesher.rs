@@ -855,6 +855,36 @@ fn random_load_placements_seeded() {
 }
 
 #[test]
+#[ignore = "heavy: 40 more seeded random placements, with quality figures"]
+fn heavy_random_load_placements_many() {
+    let mut rng = ChaCha8Rng::seed_from_u64(99);
+    for case in 0..40 {
+        let size = [
+            rng.gen_range(200.0..400.0),
+            rng.gen_range(200.0..400.0),
+            rng.gen_range(150.0..300.0),
+        ];
+        let g = random_geometry(&mut rng, size);
+        let sizes = element_sizes(&g).expect("sizes");
+        let h_min = sizes
+            .iter()
+            .map(|s| s.size_mm)
+            .fold(f64::INFINITY, f64::min);
+        let mesh = mesh_geometry(&g).unwrap_or_else(|e| panic!("case {case}: {e}"));
+        check_invariants(&g, &mesh, h_min);
+        let q = quality_report(&mesh);
+        println!(
+            "case {case}: {} loads, {} tets, dihedral {:.1}°..{:.1}°, {} poor",
+            g.loads.len(),
+            mesh.tets.len(),
+            q.min_dihedral_deg,
+            q.max_dihedral_deg,
+            q.poor_count
+        );
+    }
+}
+
+#[test]
 fn too_fine_mesh_is_refused_with_an_error() {
     let mut g = geometry(
         CavityShape::Box {
