@@ -36,15 +36,16 @@ fn main() {
     let m = assemble(&mesh, &topo, &dofs, &[RegionMaterial::VACUUM]);
     let sigma = k0_squared(2.45e9);
     let a = combine(&[(1.0, &m.stiffness), (-sigma, &m.mass_real)]);
-    let coords = dofs.coordinates(&topo, &mesh.nodes);
-    let (f, i) = nested_dissection(&a, &coords);
+    let (f, i) = nested_dissection(&a).unwrap();
+    let use_amd = args.get(5).map(|s| s.as_str()) == Some("amd");
     let par = if threads == 1 {
         faer::Par::Seq
     } else {
         faer::Par::rayon(0)
     };
     let t = Instant::now();
-    let fac = SymmetricFactor::new(&a, kind, par, Some((&f, &i))).unwrap();
+    let fac =
+        SymmetricFactor::new(&a, kind, par, if use_amd { None } else { Some((&f, &i)) }).unwrap();
     println!(
         "n={} factor {:.2}s nnz {:.1}M",
         a.rows(),

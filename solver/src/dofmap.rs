@@ -140,33 +140,6 @@ impl DofMap {
         &self.tet_dofs[t * self.n_local..(t + 1) * self.n_local]
     }
 
-    /// A point for every unknown (edge midpoint or face centroid), for orderings.
-    pub fn coordinates(&self, topo: &Topology, nodes: &[[f64; 3]]) -> Vec<[f64; 3]> {
-        let mut out = vec![[0.0; 3]; self.n_dofs];
-        let (pe, pf) = (self.order.per_edge(), self.order.per_face());
-        for (e, &[a, b]) in topo.edges.iter().enumerate() {
-            let d = self.edge_dof[e];
-            if d != FIXED {
-                let p = [0, 1, 2].map(|k| 0.5 * (nodes[a as usize][k] + nodes[b as usize][k]));
-                for k in 0..pe {
-                    out[d as usize + k] = p;
-                }
-            }
-        }
-        for (f, &[a, b, c]) in topo.faces.iter().enumerate() {
-            let d = self.face_dof[f];
-            if d != FIXED {
-                let p = [0, 1, 2].map(|k| {
-                    (nodes[a as usize][k] + nodes[b as usize][k] + nodes[c as usize][k]) / 3.0
-                });
-                for k in 0..pf {
-                    out[d as usize + k] = p;
-                }
-            }
-        }
-        out
-    }
-
     /// Discrete divergence residual ‖Gᵀ y‖ where y = M x and G maps the scalar
     /// (P1 or P2) functions vanishing on the PEC boundary to their gradients in the edge
     /// space: ∇φ_v = Σ_{edges (a,b) ∋ v} ±w_ab (+ when v = b), ∇(λaλb) = its own unknown.

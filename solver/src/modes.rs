@@ -434,21 +434,19 @@ pub fn solve_modes(
     // Measured on 2 cores: the sequential supernodal kernels beat the threaded ones here.
     let par = Par::Seq;
     progress(Stage::Factorization { n_dofs: n, nnz });
-    let coords = {
-        let full = dofs.coordinates(&topology, &mesh.nodes);
-        match &reduction {
-            Some(r) => r.reduced_coordinates(&full, &settings.ports),
-            None => full,
-        }
-    };
-    let (fwd, inv) = nested_dissection(&sys.stiffness, &coords);
+    let ordering = nested_dissection(&sys.stiffness);
     let k_norm = row_sum_norm(&sys.stiffness);
     let m_norm = row_sum_norm(&sys.mass_real) + sys.mass_imag.as_ref().map_or(0.0, row_sum_norm);
 
     let (raw, factor_s, eigen_s, factor_nnz, applications, restarts) = if !complex {
         let t1 = Instant::now();
         let a = combine(&[(1.0, &sys.stiffness), (-sigma, &sys.mass_real)]);
-        let factor = SymmetricFactor::new(&a, settings.factor, par, Some((&fwd, &inv)))?;
+        let factor = SymmetricFactor::new(
+            &a,
+            settings.factor,
+            par,
+            ordering.as_ref().map(|(f, i)| (&f[..], &i[..])),
+        )?;
         let factor_s = t1.elapsed().as_secs_f64();
         let factor_nnz = factor.factor_nnz();
         let op = RealShiftInvert {
@@ -531,8 +529,13 @@ pub fn solve_modes(
         let ar = with_pattern(&re_terms);
         let ai = with_pattern(&im_terms);
         let big = real_form(&ar, &ai);
-        let (fwd2, inv2) = doubled(&fwd);
-        let factor = SymmetricFactor::new(&big, settings.factor, par, Some((&fwd2, &inv2)))?;
+        let ordering2 = ordering.as_ref().map(|(f, _)| doubled(f));
+        let factor = SymmetricFactor::new(
+            &big,
+            settings.factor,
+            par,
+            ordering2.as_ref().map(|(f, i)| (&f[..], &i[..])),
+        )?;
         let factor_s = t1.elapsed().as_secs_f64();
         let factor_nnz = factor.factor_nnz();
         let op = ComplexShiftInvert {

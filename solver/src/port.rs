@@ -327,25 +327,6 @@ impl Reduction {
         &tt * &at
     }
 
-    /// Points of the reduced unknowns: those of the kept unknowns, and the port centres
-    /// for the amplitudes.
-    pub fn reduced_coordinates(&self, full: &[[f64; 3]], frames: &[PortFrame]) -> Vec<[f64; 3]> {
-        let mut out = vec![[0.0; 3]; self.n_reduced];
-        for (d, &p) in full.iter().enumerate() {
-            if let Some(v) = self.t.outer_view(d) {
-                for (j, _) in v.iter() {
-                    if j < self.port_base {
-                        out[j] = p;
-                    }
-                }
-            }
-        }
-        for (p, f) in frames.iter().enumerate() {
-            out[self.port_base + p] = f.center;
-        }
-        out
-    }
-
     /// x = T y.
     pub fn expand(&self, y: &[f64]) -> Vec<f64> {
         let mut x = vec![0.0; self.n_full];
