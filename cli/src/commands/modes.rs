@@ -442,7 +442,8 @@ fn spectrum_svg(doc: &ModesDoc, band_explicit: bool) -> String {
             index: r.index,
             frequency_ghz: r.frequency_ghz,
             q_loaded: r.q_loaded,
-            reflection: r.reflection.clone(),
+            coupling: r.coupling.clone(),
+            q_ports: r.q_ports.clone(),
         })
         .collect();
     spectrum::svg(&Spectrum {

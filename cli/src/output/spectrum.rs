@@ -5,12 +5,15 @@
 //!
 //! * mode i: L_i(f) = 1 / (1 + (2 Q_L,i δ_i)²), peak normalised to 1, half-power width
 //!   f_i/Q_L,i; a mode with infinite Q_L is drawn as a vertical line;
-//! * port p: Σ_i (1 − |Γ_i,p|²) L_i(f), the fraction of the forward power that enters the
-//!   cavity. For one mode coupled to a line, 1 − |Γ(f)|² = 4κ / ((1 + κ)² + (2 Q0 δ)²)
-//!   = (1 − |Γ(f_i)|²) L_i(f) since Q_L = Q0/(1 + κ). Summing over modes is a
-//!   single-mode approximation per mode: it ignores the interaction of overlapping modes
-//!   and can exceed 1 where they overlap, so the drawn sum is capped at 1 (stated on
-//!   the picture).
+//! * port p: 1 − |Γ(f)|², the fraction of the forward power that enters the cavity, with
+//!   each mode a parallel resonator seen from the port (equivalent circuit): normalised
+//!   input admittance y(f) = Σ_i κ_i / (1 + j 2 Q0_i δ_i) (κ_i, Q0_i of mode i for that
+//!   port, the other ports counted as losses), Γ = (1 − y)/(1 + y),
+//!   1 − |Γ|² = 4 Re y / |1 + y|². For one mode this is the exact single-mode response
+//!   4κ / ((1 + κ)² + (2 Q0 δ)²) = (1 − |Γ(f_i)|²) L_i(f) (Q_L = Q0/(1 + κ)). For several
+//!   modes it assumes that all couple to the port in phase (the modes' actual coupling
+//!   phases are not computed), which is an approximation where modes overlap; it never
+//!   exceeds 1.
 
 use std::fmt::Write as _;
 
@@ -19,8 +22,10 @@ pub struct SpectrumMode {
     pub index: usize,
     pub frequency_ghz: f64,
     pub q_loaded: f64,
-    /// |Γ| at resonance per port.
-    pub reflection: Vec<f64>,
+    /// Coupling κ per port (other ports counted as losses).
+    pub coupling: Vec<f64>,
+    /// External Q per port.
+    pub q_ports: Vec<f64>,
 }
 
 /// What to draw.
@@ -53,15 +58,24 @@ fn lorentz(m: &SpectrumMode, f: f64) -> f64 {
     1.0 / (1.0 + d * d)
 }
 
-/// Coupled fraction of port `p` at `f` (uncapped).
+/// Fraction of port `p`'s forward power entering the cavity at `f` (see module docs).
 pub fn coupled(modes: &[SpectrumMode], p: usize, f: f64) -> f64 {
-    modes
-        .iter()
-        .map(|m| {
-            let g = m.reflection.get(p).copied().unwrap_or(1.0);
-            (1.0 - g * g) * lorentz(m, f)
-        })
-        .sum()
+    let (mut yr, mut yi) = (0.0, 0.0);
+    for m in modes {
+        let kappa = m.coupling.get(p).copied().unwrap_or(0.0);
+        let qe = m.q_ports.get(p).copied().unwrap_or(f64::INFINITY);
+        if !(kappa.is_finite() && kappa > 0.0 && qe.is_finite()) {
+            continue;
+        }
+        let q0 = kappa * qe;
+        let x = 2.0 * q0 * (f - m.frequency_ghz) / m.frequency_ghz;
+        // κ / (1 + jx) = κ (1 − jx) / (1 + x²)
+        let d = 1.0 + x * x;
+        yr += kappa / d;
+        yi -= kappa * x / d;
+    }
+    let den = (1.0 + yr) * (1.0 + yr) + yi * yi;
+    4.0 * yr / den
 }
 
 fn esc(s: &str) -> String {
@@ -240,14 +254,12 @@ pub fn svg(s: &Spectrum) -> String {
         );
     }
     // Ports.
-    let mut capped = false;
     for (p, name) in s.ports.iter().enumerate() {
         let colour = PORT_COLOURS[p % PORT_COLOURS.len()];
         let pts: Vec<String> = fs
             .iter()
             .map(|&f| {
                 let v = coupled(s.modes, p, f);
-                capped |= v > 1.0;
                 format!("{:.2},{:.2}", x(f), y(v))
             })
             .collect();
@@ -281,12 +293,8 @@ pub fn svg(s: &Spectrum) -> String {
     let mut notes = vec![s.range_note.to_string()];
     if !s.ports.is_empty() {
         notes.push(format!(
-            "port curves: sum of single-mode responses (modes treated as independent){}",
-            if capped {
-                ", capped at 1 where overlapping modes push the sum above 1"
-            } else {
-                ""
-            }
+            "port curves: modes as parallel resonators seen from the port, coupling in phase \
+             (equivalent-circuit approximation; exact for an isolated mode)"
         ));
     }
     for (i, note) in notes.iter().enumerate() {
