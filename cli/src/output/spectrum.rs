@@ -292,10 +292,11 @@ pub fn svg(s: &Spectrum) -> String {
     );
     let mut notes = vec![s.range_note.to_string()];
     if !s.ports.is_empty() {
-        notes.push(format!(
+        notes.push(
             "port curves: modes as parallel resonators seen from the port, coupling in phase \
              (equivalent-circuit approximation; exact for an isolated mode)"
-        ));
+                .to_string(),
+        );
     }
     for (i, note) in notes.iter().enumerate() {
         let _ = writeln!(
