@@ -145,8 +145,20 @@ impl SymmetricFactor {
         self.symbolic.len_val()
     }
 
-    /// Solve A X = B in place (B has any number of columns).
+    /// Solve A X = B in place (B has any number of columns). With several columns the
+    /// two halves are solved concurrently: the sequential supernodal kernels then keep
+    /// both cores busy without thread barriers inside the kernels.
     pub fn solve_in_place(&self, rhs: MatMut<'_, f64>) {
+        let k = rhs.ncols();
+        if k >= 2 && rayon::current_num_threads() >= 2 {
+            let (left, right) = rhs.split_at_col_mut(k / 2);
+            rayon::join(|| self.solve_block(left), || self.solve_block(right));
+        } else {
+            self.solve_block(rhs);
+        }
+    }
+
+    fn solve_block(&self, rhs: MatMut<'_, f64>) {
         let k = rhs.ncols();
         let req = self.symbolic.solve_in_place_scratch::<f64>(k, self.par);
         let mut mem = MemBuffer::new(req);

@@ -431,8 +431,12 @@ pub fn solve_modes(
         max: settings.max_modes,
         kernel_theta: Some(-1.0 / sigma),
     };
-    // Measured on 2 cores: the sequential supernodal kernels beat the threaded ones here.
+    // Measured on 2 cores: the sequential supernodal kernels beat the threaded ones here,
+    // and the tall-skinny dense products of the eigen iteration lose more to thread
+    // barriers than they gain (~30 % of the iteration time in synchronisation), so faer
+    // runs sequentially; rayon still parallelises assembly and sparse products.
     let par = Par::Seq;
+    faer::set_global_parallelism(Par::Seq);
     progress(Stage::Factorization { n_dofs: n, nnz });
     let ordering = nested_dissection(&sys.stiffness);
     let k_norm = row_sum_norm(&sys.stiffness);
