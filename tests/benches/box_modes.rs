@@ -30,7 +30,9 @@ fn analytic(fmax: f64) -> Vec<f64> {
                 if zeros > 1 {
                     continue;
                 }
-                let f = C0 / 2.0 * ((m as f64 / A).powi(2) + (n as f64 / B).powi(2) + (p as f64 / D).powi(2)).sqrt();
+                let f = C0 / 2.0
+                    * ((m as f64 / A).powi(2) + (n as f64 / B).powi(2) + (p as f64 / D).powi(2))
+                        .sqrt();
                 if f <= fmax {
                     let mult = if zeros == 0 { 2 } else { 1 };
                     fs.extend(std::iter::repeat_n(f, mult));
@@ -56,7 +58,11 @@ fn run_case(order: u8, per_100mm: usize) {
     let cells = |len: f64| (len / 0.1 * per_100mm as f64).round() as usize;
     let n = [cells(A), cells(B), cells(D)];
     let t0 = Instant::now();
-    let mesh = grid_mesh(&GridLines::uniform([0.0; 3], [A, B, D], n), vec![RegionInfo { name: "air".into() }], |_| Some(0));
+    let mesh = grid_mesh(
+        &GridLines::uniform([0.0; 3], [A, B, D], n),
+        vec![RegionInfo { name: "air".into() }],
+        |_| Some(0),
+    );
     let mesh_s = t0.elapsed().as_secs_f64();
     let mut s = ModeSettings::new(2.45e9);
     s.order = NedelecOrder::from_int(order).expect("order 1 or 2");
@@ -74,7 +80,12 @@ fn run_case(order: u8, per_100mm: usize) {
     let worst = set
         .modes
         .iter()
-        .map(|m| reference.iter().map(|r| (r - m.frequency_hz).abs() / r).fold(f64::INFINITY, f64::min))
+        .map(|m| {
+            reference
+                .iter()
+                .map(|r| (r - m.frequency_hz).abs() / r)
+                .fold(f64::INFINITY, f64::min)
+        })
         .fold(0.0, f64::max);
     let st = &set.stats;
     println!(
@@ -97,7 +108,10 @@ fn run_case(order: u8, per_100mm: usize) {
 
 fn main() {
     let args: Vec<String> = std::env::args().collect();
-    if let (Ok(order), Ok(n)) = (std::env::var("ANTINODE_BENCH_ORDER"), std::env::var("ANTINODE_BENCH_N")) {
+    if let (Ok(order), Ok(n)) = (
+        std::env::var("ANTINODE_BENCH_ORDER"),
+        std::env::var("ANTINODE_BENCH_N"),
+    ) {
         run_case(order.parse().unwrap_or(1), n.parse().unwrap_or(4));
         return;
     }
@@ -105,10 +119,23 @@ fn main() {
     let cases: Vec<(u8, usize)> = if quick {
         vec![(1, 4), (1, 8), (2, 2), (2, 4)]
     } else {
-        vec![(1, 4), (1, 8), (1, 12), (1, 16), (2, 2), (2, 3), (2, 4), (2, 6), (2, 8)]
+        vec![
+            (1, 4),
+            (1, 8),
+            (1, 12),
+            (1, 16),
+            (2, 2),
+            (2, 3),
+            (2, 4),
+            (2, 6),
+            (2, 8),
+        ]
     };
     let exe = std::env::current_exe().expect("own path");
-    println!("empty 300x300x200 mm PEC box, 20 modes nearest 2.45 GHz, {} threads", rayon_threads());
+    println!(
+        "empty 300x300x200 mm PEC box, 20 modes nearest 2.45 GHz, {} threads",
+        rayon_threads()
+    );
     for (order, n) in cases {
         let out = Command::new(&exe)
             .env("ANTINODE_BENCH_ORDER", order.to_string())
@@ -120,14 +147,24 @@ fn main() {
         }
     }
     if args.iter().any(|a| a == "yardstick") {
-        let script = concat!(env!("CARGO_MANIFEST_DIR"), "/../../shared/yardstick/general_fem_box.py");
+        let script = concat!(
+            env!("CARGO_MANIFEST_DIR"),
+            "/../../shared/yardstick/general_fem_box.py"
+        );
         for n in ["4", "8"] {
             let t = Instant::now();
-            match Command::new("/usr/bin/time").args(["-f", "peak_kb=%M", "python3", script, n]).output() {
+            match Command::new("/usr/bin/time")
+                .args(["-f", "peak_kb=%M", "python3", script, n])
+                .output()
+            {
                 Ok(o) => println!(
                     "yardstick (general-purpose Python path) N={n}: {} {} wall={:.1}s",
                     String::from_utf8_lossy(&o.stdout).trim(),
-                    String::from_utf8_lossy(&o.stderr).trim().lines().last().unwrap_or(""),
+                    String::from_utf8_lossy(&o.stderr)
+                        .trim()
+                        .lines()
+                        .last()
+                        .unwrap_or(""),
                     t.elapsed().as_secs_f64()
                 ),
                 Err(e) => println!("yardstick N={n}: could not run: {e}"),

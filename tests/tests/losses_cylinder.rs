@@ -9,7 +9,7 @@
 //!   printed only: a = 2.74 cm, d = 5.48 cm, Q_c ≈ 29 390. Asserted against the TE_0ml
 //!   conductor-Q closed form (Pozar §6.4, equation for Q_c of TE_nml with n = 0; form
 //!   from memory, re-derived in this file's comments):
-//!     Q_c = (ka)³ η a d / (4 p′01² Rs) / (a d/2 + (β a²/p′01)²),  β = lπ/d,
+//!   Q_c = (ka)³ η a d / (4 p′01² Rs) / (a d/2 + (β a²/p′01)²),  β = lπ/d,
 //!   from W = (μ/2)∫|H|² and P_c = (Rs/2)∮|H_t|² with H_z = J0(p′01 ρ/a) sin βz,
 //!   H_ρ ∝ (β/k_c) J0′ cos βz (∫0^a J0² ρ dρ = ∫0^a J1² ρ dρ = a²J0²(p′01)/2 at J1 = 0).
 //!   TE011 is degenerate with TM111 (p′01 = p11) in every circular cavity, so the
@@ -25,6 +25,8 @@
 //! (ii) the polygonal wall: the closed form evaluated at the equal-area radius
 //! a_eq = a √(N sin(2π/N)/(2π)) (N sides) differs from the one at a; that difference is
 //! added to the tolerance.
+// Index loops over small fixed-size vectors read closer to the formulas here.
+#![allow(clippy::needless_range_loop)]
 
 use antinode_mesh::mesher::mesh_geometry;
 use antinode_mesh::{Geometry, TetMesh};
