@@ -138,6 +138,11 @@ pub struct Mode {
     pub integrals: ModeIntegrals,
     /// Q parts and power split.
     pub q: ModeQ,
+    /// External Q of each port from the power balance with the eigenvector's own aperture
+    /// amplitudes, before they are matched to the refined eigenvalue (see
+    /// [`solve_modes`]); with the target at the mode's frequency these equal `q.q_ports`.
+    /// Kept as an independent consistency check.
+    pub q_ports_balance: Vec<f64>,
 }
 
 /// The discrete problem a mode set was computed on (needed to evaluate fields).
@@ -719,6 +724,7 @@ pub fn solve_modes(
                     settings.wall_conductivity,
                     &ports,
                 );
+                let q_ports_balance = q.q_ports.clone();
                 // The aperture amplitudes come from the eigenvector computed with β at the
                 // target; the refined eigenvalue is accurate to second order, the amplitudes
                 // only to first. So the total port damping is taken from the refined
@@ -764,6 +770,7 @@ pub fn solve_modes(
                     coefficients_imag: xi,
                     integrals,
                     q,
+                    q_ports_balance,
                 }
             },
         )

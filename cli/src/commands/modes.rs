@@ -181,8 +181,10 @@ pub fn run(args: &ModesArgs) -> Result<()> {
         .map(|(i, m)| {
             let f = m.frequency_hz * 1e-9;
             let q = &m.q;
+            // The power balance with the eigenvector's own port amplitudes (before the
+            // solver matches them to the refined eigenvalue): an independent check.
             let mut balance = vec![q.q_dielectric];
-            balance.extend_from_slice(&q.q_ports);
+            balance.extend_from_slice(&m.q_ports_balance);
             let q_balance = summary::combine_q(&balance);
             ModeRow {
                 index: i + 1,
