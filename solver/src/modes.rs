@@ -41,6 +41,9 @@ use std::time::Instant;
 /// Speed of light in vacuum, m/s (exact, SI).
 pub const C0: f64 = 299_792_458.0;
 
+/// Band searches reach this factor beyond the farther band edge (see [`solve_modes`]).
+pub const BAND_MARGIN: f64 = 1.25;
+
 /// Extra modes sought beyond the requested count (see [`solve_modes`]).
 pub const COUNT_MARGIN: usize = 4;
 
@@ -169,6 +172,12 @@ pub struct SolveStats {
     pub applications: usize,
     pub restarts: usize,
     pub spurious_dropped: usize,
+    /// Radius (m⁻², in k0² = λ) of the disc around σ in the complex λ plane inside which
+    /// every eigenvalue was found: the band radius for a band search, else the distance of
+    /// the farthest converged mode. A mode with Re f in a band but strong damping
+    /// (Im λ ≈ Re λ / Q) lies outside the disc when Q is small; callers can turn this
+    /// into the Q above which a band listing is complete.
+    pub search_radius: f64,
 }
 
 /// Modes sorted by frequency, with the discretisation and solve figures.
@@ -421,12 +430,16 @@ pub fn solve_modes(
         .map(|f| c64::new(0.0, 1.0) * f.beta(k_target))
         .collect();
 
-    let theta_min = settings.band_hz.map(|[lo, hi]| {
-        let r = (k0_squared(hi) - sigma)
-            .abs()
-            .max((sigma - k0_squared(lo)).abs());
-        1.0 / r
+    // Band: every eigenvalue within BAND_MARGIN × the distance to the farther band edge
+    // (complex plane), so damped modes near the edges are caught too; see
+    // `SolveStats::search_radius`.
+    let band_radius = settings.band_hz.map(|[lo, hi]| {
+        BAND_MARGIN
+            * (k0_squared(hi) - sigma)
+                .abs()
+                .max((sigma - k0_squared(lo)).abs())
     });
+    let theta_min = band_radius.map(|r| 1.0 / r);
     // A few more than asked: spurious fields are dropped after the iteration, and the
     // final choice of the `count` nearest is made on the real frequency axis, where
     // strongly damped modes sit nearer than in the complex λ plane.
@@ -775,6 +788,11 @@ pub fn solve_modes(
             },
         )
         .collect();
+    let reach = modes
+        .iter()
+        .map(|m| c64::new(m.k0_squared - sigma, m.k0_squared_imag).norm())
+        .fold(0.0, f64::max);
+    let search_radius = band_radius.map_or(reach, |r| r.max(reach));
     // Keep every mode in the band and the `count` nearest the target.
     modes.sort_by(|a, b| {
         (a.frequency_hz - settings.target_hz)
@@ -803,6 +821,7 @@ pub fn solve_modes(
         applications,
         restarts,
         spurious_dropped: spurious,
+        search_radius,
     };
     drop(reduced);
     Ok(ModeSet {

@@ -219,14 +219,21 @@ pub fn run(args: &ModesArgs) -> Result<()> {
         })
         .collect();
     let sigma = k0_squared(target_ghz * 1e9);
-    let reach = set
-        .modes
-        .iter()
-        .map(|m| (m.k0_squared - sigma).abs())
-        .fold(0.0, f64::max);
-    let complete = settings.band_hz.is_some()
-        || ((k0_squared(band[1] * 1e9) - sigma) < reach
-            && (sigma - k0_squared(band[0] * 1e9)) < reach);
+    // Every eigenvalue inside the solver's search disc (radius R around σ in the λ = k0²
+    // plane) was found. A mode at a band edge λe with Im λ ≈ λe/Q lies inside when
+    // (λe − σ)² + (λe/Q)² ≤ R², i.e. Q ≥ λe/√(R² − (λe − σ)²): the listing is complete
+    // for modes damped less than that (Q from loads and ports).
+    let reach = set.stats.search_radius;
+    let edges = [k0_squared(band[0] * 1e9), k0_squared(band[1] * 1e9)];
+    let complete = edges.iter().all(|&e| (e - sigma).abs() < reach);
+    let complete_above_q = if complete {
+        edges
+            .iter()
+            .map(|&e| e / (reach * reach - (e - sigma).powi(2)).sqrt())
+            .fold(0.0, f64::max)
+    } else {
+        f64::INFINITY
+    };
 
     let vols = mesh.region_volumes();
     let weyl = if let (CavityShape::Box { size }, true) = (geom.cavity.shape, geom.loads.is_empty())
@@ -335,6 +342,7 @@ pub fn run(args: &ModesArgs) -> Result<()> {
             band_from,
             modes_in_band: in_band_hz.len(),
             complete,
+            complete_above_q: complete.then_some(complete_above_q),
             weyl_estimate: weyl,
             distinct_frequencies: groups.len(),
             group_tolerance_relative: GROUP_TOLERANCE,

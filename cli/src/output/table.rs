@@ -155,15 +155,16 @@ pub fn print(doc: &ModesDoc) {
         "band {:.4}–{:.4} GHz ({}):",
         b.band_ghz[0], b.band_ghz[1], b.band_from
     );
-    println!(
-        "  modes found in band: {}{}",
-        b.modes_in_band,
-        if b.complete {
-            " (complete: the search covered the whole band)"
-        } else {
-            " (may be incomplete: the search did not reach both band edges; pass --band or raise --count)"
-        }
-    );
+    match (b.complete, b.complete_above_q) {
+        (true, Some(q)) => println!(
+            "  modes found in band: {} (complete for modes with Q from loads and ports ≥ {:.0}; more strongly damped ones may be missing)",
+            b.modes_in_band, q
+        ),
+        _ => println!(
+            "  modes found in band: {} (may be incomplete: the search did not reach both band edges; pass --band or raise --count)",
+            b.modes_in_band
+        ),
+    }
     println!(
         "  Weyl's-law estimate: {:.1} modes (estimate; {}, V = {}; {})",
         b.weyl_estimate.modes,
