@@ -525,6 +525,17 @@ impl TetGeometry {
     }
 }
 
+/// Unit normal (orientation of the local vertex order) and area of local face `face` of
+/// the tetrahedron with vertices `x`.
+pub fn face_normal_area(x: &[[f64; 3]; 4], face: usize) -> ([f64; 3], f64) {
+    let (i, j, k) = FACES[face];
+    let e1 = [x[j][0] - x[i][0], x[j][1] - x[i][1], x[j][2] - x[i][2]];
+    let e2 = [x[k][0] - x[i][0], x[k][1] - x[i][1], x[k][2] - x[i][2]];
+    let n = cross3(e1, e2);
+    let len = dot3(n, n).sqrt();
+    ([n[0] / len, n[1] / len, n[2] / len], 0.5 * len)
+}
+
 pub(crate) fn dot3(a: [f64; 3], b: [f64; 3]) -> f64 {
     a[0] * b[0] + a[1] * b[1] + a[2] * b[2]
 }

@@ -19,7 +19,7 @@
 
 use crate::assembly::RegionMaterial;
 use crate::dofmap::{DofMap, FIXED};
-use crate::element::{cross3, dot3, NedelecTet, TetGeometry, FACES};
+use crate::element::{face_normal_area, NedelecTet, TetGeometry};
 use crate::topology::Topology;
 use antinode_mesh::{BoundaryTag, TetMesh};
 use rayon::prelude::*;
@@ -46,6 +46,19 @@ fn quad_form(m: &[f64], n: usize, x: &[f64]) -> f64 {
         s += x[a] * r;
     }
     s
+}
+
+/// Local coefficients of one element from global real and imaginary parts (zero for
+/// eliminated unknowns; an empty imaginary part means a real field).
+fn gather(td: &[u32], re: &[f64], im: &[f64], xr: &mut [f64], xi: &mut [f64]) {
+    for (a, &d) in td.iter().enumerate() {
+        xr[a] = if d == FIXED { 0.0 } else { re[d as usize] };
+        xi[a] = if d == FIXED || im.is_empty() {
+            0.0
+        } else {
+            im[d as usize]
+        };
+    }
 }
 
 /// Integrals of several modes (each given by real and imaginary coefficient vectors
@@ -90,38 +103,17 @@ pub fn mode_integrals(
                         topo.face_tag[topo.tet_faces[t][lf] as usize] == Some(BoundaryTag::Wall)
                     })
                     .collect();
-                for (mi, (re, im)) in modes.iter().enumerate() {
+                for (mi, &(re, im)) in modes.iter().enumerate() {
                     let (xr, xi) = xl.split_at_mut(nl);
-                    for a in 0..nl {
-                        let d = td[a];
-                        xr[a] = if d == FIXED { 0.0 } else { re[d as usize] };
-                        xi[a] = if d == FIXED || im.is_empty() {
-                            0.0
-                        } else {
-                            im[d as usize]
-                        };
-                    }
+                    gather(td, re, im, xr, xi);
                     acc[mi].region_e2[region] += quad_form(&mm, nl, xr) + quad_form(&mm, nl, xi);
                 }
                 for &lf in &wall_faces {
-                    let (i, j, k) = FACES[lf];
-                    let e1 = [x[j][0] - x[i][0], x[j][1] - x[i][1], x[j][2] - x[i][2]];
-                    let e2 = [x[k][0] - x[i][0], x[k][1] - x[i][1], x[k][2] - x[i][2]];
-                    let nrm = cross3(e1, e2);
-                    let len = dot3(nrm, nrm).sqrt();
-                    let normal = [nrm[0] / len, nrm[1] / len, nrm[2] / len];
-                    element.face_matrices(&geo, lf, 0.5 * len, normal, &mut mm, &mut kc);
-                    for (mi, (re, im)) in modes.iter().enumerate() {
+                    let (normal, area) = face_normal_area(&x, lf);
+                    element.face_matrices(&geo, lf, area, normal, &mut mm, &mut kc);
+                    for (mi, &(re, im)) in modes.iter().enumerate() {
                         let (xr, xi) = xl.split_at_mut(nl);
-                        for a in 0..nl {
-                            let d = td[a];
-                            xr[a] = if d == FIXED { 0.0 } else { re[d as usize] };
-                            xi[a] = if d == FIXED || im.is_empty() {
-                                0.0
-                            } else {
-                                im[d as usize]
-                            };
-                        }
+                        gather(td, re, im, xr, xi);
                         acc[mi].wall_curl2 += quad_form(&kc, nl, xr) + quad_form(&kc, nl, xi);
                     }
                 }

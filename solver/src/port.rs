@@ -19,7 +19,7 @@
 //! P = (β / 2ωμ0) N |c|² (propagating case).
 
 use crate::dofmap::{DofMap, FIXED};
-use crate::element::{cross3, dot3, NedelecTet, TetGeometry, FACES};
+use crate::element::{dot3, face_normal_area, NedelecTet, TetGeometry, FACES};
 use crate::topology::Topology;
 use antinode_mesh::geometry::{CavityShape, Geometry, PortWall};
 use antinode_mesh::{BoundaryTag, TetMesh};
@@ -161,15 +161,6 @@ fn port_faces(topo: &Topology, port: usize) -> Vec<(usize, usize)> {
     out
 }
 
-fn unit_normal(a: [f64; 3], b: [f64; 3], c: [f64; 3]) -> ([f64; 3], f64) {
-    let n = cross3(
-        [b[0] - a[0], b[1] - a[1], b[2] - a[2]],
-        [c[0] - a[0], c[1] - a[1], c[2] - a[2]],
-    );
-    let len = dot3(n, n).sqrt();
-    ([n[0] / len, n[1] / len, n[2] / len], 0.5 * len)
-}
-
 /// Build the TE10 constraint of each port by L2 projection on its aperture.
 pub fn port_constraint(
     mesh: &TetMesh,
@@ -203,7 +194,7 @@ pub fn port_constraint(
             let x = topo.tets[t].map(|v| mesh.nodes[v as usize]);
             let geo = TetGeometry::new(x);
             let (i, j, k) = FACES[lf];
-            let (normal, area) = unit_normal(x[i], x[j], x[k]);
+            let (normal, area) = face_normal_area(&x, lf);
             element.face_matrices(&geo, lf, area, normal, &mut fm, &mut fc);
             let mid = |a: [f64; 3], b: [f64; 3]| {
                 [
