@@ -17,7 +17,7 @@ pub enum SolverError {
     #[error("the mesh has no interior unknowns: it is too coarse to hold any field; refine it (larger per_wavelength or smaller max_size)")]
     NoUnknowns,
     /// The eigen iteration did not converge.
-    #[error("the eigen solver found only {found} of {wanted} modes to tolerance {tol:e} after {restarts} restarts; try fewer modes, a narrower band, or a finer mesh")]
+    #[error("the eigen solver found only {found} of {wanted} modes to tolerance {tol:e} after {restarts} restarts; try fewer modes or a narrower band; if the target lies below the cavity's lowest resonances, raise it (static fields then crowd the search)")]
     NotConverged {
         found: usize,
         wanted: usize,
