@@ -186,25 +186,9 @@ pub fn solve<O: ComplexOperator>(
         let order = wanted.order(&abs, &dist);
         let theta: Vec<c64> = order.iter().map(|&i| s[i]).collect();
         let usable = wanted.usable(&order.iter().map(|&i| dist[i]).collect::<Vec<_>>());
-        let nw = match wanted.theta_min {
-            None => wanted.nearest.min(usable),
-            Some(tmin) => {
-                let inside = theta
-                    .iter()
-                    .take(usable)
-                    .filter(|t| t.norm() >= tmin)
-                    .count();
-                wanted
-                    .nearest
-                    .max(inside + 1)
-                    .min(wanted.max + 1)
-                    .min(usable)
-            }
-        };
-        let keep = (nw + p)
-            .max(basis.capacity() / 2)
-            .min(u.saturating_sub(p).max(nw))
-            .min(u);
+        let abs_sorted: Vec<f64> = theta.iter().map(|t| t.norm()).collect();
+        let nw = wanted.active(&abs_sorted, usable);
+        let keep = Wanted::keep(nw, p, basis.capacity(), u);
         let s_keep = Mat::from_fn(u, keep, |i, j| evd.U()[(i, order[j])]);
         let y = basis.v.as_ref().get(.., ..u) * &s_keep;
         let ty = basis.tv.as_ref().get(.., ..u) * &s_keep;
@@ -225,15 +209,7 @@ pub fn solve<O: ComplexOperator>(
             applications,
         });
         if converged == nw && nw >= wanted.nearest.min(u) {
-            let count = match wanted.theta_min {
-                None => nw,
-                Some(tmin) => theta
-                    .iter()
-                    .take(nw)
-                    .filter(|t| t.norm() >= tmin)
-                    .count()
-                    .max(wanted.nearest.min(nw)),
-            };
+            let count = wanted.returned(&abs_sorted, nw);
             let mut vectors = y.as_ref().get(.., ..count).to_owned();
             for j in 0..count {
                 let nrm = vectors.as_ref().get(.., j..j + 1).norm_l2();

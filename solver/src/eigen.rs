@@ -65,6 +65,43 @@ impl Wanted {
         order
     }
 
+    /// How many of the ordered Ritz values (|θ| given, decreasing, the first `usable` not
+    /// kernel images) must converge: the `nearest`, and with a radius all inside it plus
+    /// one beyond, which must also have converged so that nothing inside can still be
+    /// missing.
+    pub fn active(&self, abs_theta: &[f64], usable: usize) -> usize {
+        match self.theta_min {
+            None => self.nearest.min(usable),
+            Some(t) => {
+                let inside = abs_theta.iter().take(usable).filter(|&&a| a >= t).count();
+                self.nearest.max(inside + 1).min(self.max + 1).min(usable)
+            }
+        }
+    }
+
+    /// How many of the `active` converged Ritz values to return (the guard beyond the
+    /// radius is dropped).
+    pub fn returned(&self, abs_theta: &[f64], active: usize) -> usize {
+        match self.theta_min {
+            None => active,
+            Some(t) => abs_theta
+                .iter()
+                .take(active)
+                .filter(|&&a| a >= t)
+                .count()
+                .max(self.nearest.min(active)),
+        }
+    }
+
+    /// Ritz vectors kept at a restart: the active ones plus a block, at least half the
+    /// basis, leaving room for one block.
+    pub fn keep(active: usize, block: usize, capacity: usize, used: usize) -> usize {
+        (active + block)
+            .max(capacity / 2)
+            .min(used.saturating_sub(block).max(active))
+            .min(used)
+    }
+
     /// Number of leading (ordered) Ritz values that are not kernel images.
     pub fn usable(&self, ordered_distance: &[f64]) -> usize {
         ordered_distance
@@ -294,29 +331,10 @@ pub fn solve<O: ShiftInvertOperator>(
         let order = wanted.order(&abs, &dist);
         let theta: Vec<f64> = order.iter().map(|&i| s_diag[i]).collect();
         let usable = wanted.usable(&order.iter().map(|&i| dist[i]).collect::<Vec<_>>());
-        let nw = match wanted.theta_min {
-            None => wanted.nearest.min(usable),
-            Some(theta_min) => {
-                // All inside the radius plus one beyond it, which must also have converged
-                // so that nothing inside can still be missing.
-                let inside = theta
-                    .iter()
-                    .take(usable)
-                    .filter(|t| t.abs() >= theta_min)
-                    .count();
-                wanted
-                    .nearest
-                    .max(inside + 1)
-                    .min(wanted.max + 1)
-                    .min(usable)
-            }
-        };
+        let abs_sorted: Vec<f64> = theta.iter().map(|t| t.abs()).collect();
+        let nw = wanted.active(&abs_sorted, usable);
         // Ritz vectors of the leading part and their residuals.
-        // Keep the wanted Ritz vectors plus a margin, leaving room for at least one block.
-        let keep = (nw + p)
-            .max(basis.capacity() / 2)
-            .min(u.saturating_sub(p).max(nw))
-            .min(u);
+        let keep = Wanted::keep(nw, p, basis.capacity(), u);
         let s_keep = Mat::from_fn(u, keep, |i, j| evd.U()[(i, order[j])]);
         let y = basis.v.as_ref().get(.., ..u) * &s_keep;
         let ty = basis.tv.as_ref().get(.., ..u) * &s_keep;
@@ -352,17 +370,7 @@ pub fn solve<O: ShiftInvertOperator>(
                     restarts,
                 });
             }
-            let count = match wanted.theta_min {
-                None => nw,
-                Some(theta_min) => {
-                    let inside = theta
-                        .iter()
-                        .take(nw)
-                        .filter(|t| t.abs() >= theta_min)
-                        .count();
-                    inside.max(wanted.nearest.min(nw))
-                }
-            };
+            let count = wanted.returned(&abs_sorted, nw);
             return Ok(RitzPairs {
                 theta: theta[..count].to_vec(),
                 vectors: y.as_ref().get(.., ..count).to_owned(),
