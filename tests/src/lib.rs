@@ -285,7 +285,9 @@ pub fn clear_window(reference: &[RefMode], band: [f64; 2], margin_rel: f64) -> [
                 moved = true;
             }
             if ((r.k2 - hi) / hi).abs() <= margin_rel {
-                hi = r.k2 * (1.0 + 1.01 * margin_rel);
+                // |r − hi|/hi = 1.01·margin after this move (r·(1 + 1.01·margin) would leave
+                // it inside the margin for margin ≳ 1 % and never stop).
+                hi = r.k2 / (1.0 - 1.01 * margin_rel);
                 moved = true;
             }
         }
