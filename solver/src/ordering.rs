@@ -16,36 +16,59 @@ use metis_sys::{idx_t, METIS_NodeND, METIS_SetDefaultOptions, METIS_NOPTIONS};
 /// (forward, inverse) with forward[k] = the unknown eliminated k-th and
 /// inverse[forward[k]] = k, or None when the graph is too large for 32-bit indices or
 /// the partitioner fails (callers then fall back to minimum degree).
+///
+/// Consecutive unknowns with identical rows (the two functions of one edge or face at
+/// order 2) are merged into one graph vertex first and kept together in the result:
+/// the partitioner then works on half the vertices and a quarter of the edges, which
+/// halved its time on order-2 meshes at unchanged fill.
 pub fn nested_dissection(a: &SparseMatrix) -> Option<(Vec<u32>, Vec<u32>)> {
     let n = a.rows();
     if a.nnz() >= i32::MAX as usize || n < 2 {
         return None;
     }
-    let mut xadj: Vec<idx_t> = Vec::with_capacity(n + 1);
-    let mut adjncy: Vec<idx_t> = Vec::with_capacity(a.nnz());
+    // Supervariables: runs of consecutive rows with the same column pattern.
+    let mut group_of = vec![0u32; n];
+    let mut group_start: Vec<u32> = vec![0];
+    for (r, g) in group_of.iter_mut().enumerate().skip(1) {
+        if row_pattern(a, r) != row_pattern(a, r - 1) {
+            group_start.push(r as u32);
+        }
+        *g = (group_start.len() - 1) as u32;
+    }
+    let ng = group_start.len();
+    group_start.push(n as u32);
+    let mut xadj: Vec<idx_t> = Vec::with_capacity(ng + 1);
+    let mut adjncy: Vec<idx_t> = Vec::with_capacity(a.nnz() / 2);
     xadj.push(0);
-    for (r, row) in a.outer_iterator().enumerate() {
-        adjncy.extend(
-            row.indices()
-                .iter()
-                .filter(|&&c| c as usize != r)
-                .map(|&c| c as idx_t),
-        );
+    for (g, &start) in group_start[..ng].iter().enumerate() {
+        let mut last = u32::MAX;
+        for &c in row_pattern(a, start as usize) {
+            let h = group_of[c as usize];
+            // Columns are sorted and groups are runs, so repeats are adjacent.
+            if h != last && h as usize != g {
+                adjncy.push(h as idx_t);
+            }
+            last = h;
+        }
         xadj.push(adjncy.len() as idx_t);
     }
-    let mut nv = n as idx_t;
+    let mut nv = ng as idx_t;
     let mut options = [0 as idx_t; METIS_NOPTIONS as usize];
-    let mut perm = vec![0 as idx_t; n];
-    let mut iperm = vec![0 as idx_t; n];
-    // SAFETY: the arrays have the lengths METIS_NodeND documents (xadj n + 1, adjncy
-    // xadj[n], perm and iperm n, options METIS_NOPTIONS); vwgt may be null.
+    let mut perm = vec![0 as idx_t; ng];
+    let mut iperm = vec![0 as idx_t; ng];
+    // Vertex weights: the number of unknowns each graph vertex stands for.
+    let mut vwgt: Vec<idx_t> = (0..ng)
+        .map(|g| (group_start[g + 1] - group_start[g]) as idx_t)
+        .collect();
+    // SAFETY: the arrays have the lengths METIS_NodeND documents (xadj ng + 1, adjncy
+    // xadj[ng], vwgt, perm and iperm ng, options METIS_NOPTIONS).
     let status = unsafe {
         METIS_SetDefaultOptions(options.as_mut_ptr());
         METIS_NodeND(
             &mut nv,
             xadj.as_mut_ptr(),
             adjncy.as_mut_ptr(),
-            std::ptr::null_mut(),
+            vwgt.as_mut_ptr(),
             options.as_mut_ptr(),
             perm.as_mut_ptr(),
             iperm.as_mut_ptr(),
@@ -55,10 +78,22 @@ pub fn nested_dissection(a: &SparseMatrix) -> Option<(Vec<u32>, Vec<u32>)> {
         return None;
     }
     // METIS: row i of the permuted matrix is row perm[i] of the original.
-    Some((
-        perm.iter().map(|&p| p as u32).collect(),
-        iperm.iter().map(|&p| p as u32).collect(),
-    ))
+    let forward: Vec<u32> = perm
+        .iter()
+        .flat_map(|&g| group_start[g as usize]..group_start[g as usize + 1])
+        .collect();
+    let mut inverse = vec![0u32; n];
+    for (k, &v) in forward.iter().enumerate() {
+        inverse[v as usize] = k as u32;
+    }
+    Some((forward, inverse))
+}
+
+/// Column indices of row r (CSR).
+fn row_pattern(a: &SparseMatrix, r: usize) -> &[u32] {
+    let ptr = a.indptr();
+    let ptr = ptr.raw_storage();
+    &a.indices()[ptr[r] as usize..ptr[r + 1] as usize]
 }
 
 /// Interleave an ordering of n unknowns into one of the 2n-unknown real form
