@@ -236,3 +236,50 @@ pub fn spmv(a: &SparseMatrix, x: &[f64], y: &mut [f64]) {
             *yr = acc;
         });
 }
+
+/// Y = A X for a CSR matrix and a block of columns, parallel over rows. The block is
+/// gathered row-wise first so that each stored entry of A is read once for all columns
+/// (one pass over A instead of one per column).
+pub fn spmm(a: &SparseMatrix, x: faer::MatRef<'_, f64>, mut y: faer::MatMut<'_, f64>) {
+    let (n, k) = (x.nrows(), x.ncols());
+    assert_eq!(
+        a.cols(),
+        n,
+        "spmm: A has {} columns, X {} rows",
+        a.cols(),
+        n
+    );
+    assert_eq!((y.nrows(), y.ncols()), (a.rows(), k), "spmm: output shape");
+    if k == 0 {
+        return;
+    }
+    let mut xt = vec![0.0; n * k];
+    xt.par_chunks_mut(k)
+        .with_min_len(1024)
+        .enumerate()
+        .for_each(|(i, row)| {
+            for (j, v) in row.iter_mut().enumerate() {
+                *v = x[(i, j)];
+            }
+        });
+    let indptr = a.indptr();
+    let indptr = indptr.raw_storage();
+    let (idx, val) = (a.indices(), a.data());
+    let mut yt = vec![0.0; a.rows() * k];
+    yt.par_chunks_mut(k)
+        .with_min_len(256)
+        .enumerate()
+        .for_each(|(r, out)| {
+            for p in indptr[r] as usize..indptr[r + 1] as usize {
+                let (v, c) = (val[p], idx[p] as usize);
+                for (o, &xv) in out.iter_mut().zip(&xt[c * k..(c + 1) * k]) {
+                    *o += v * xv;
+                }
+            }
+        });
+    for j in 0..k {
+        for (i, row) in yt.chunks_exact(k).enumerate() {
+            y[(i, j)] = row[j];
+        }
+    }
+}

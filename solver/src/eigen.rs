@@ -1,4 +1,4 @@
-//! Restarted block Rayleigh–Ritz iteration for the shift-inverted symmetric pencil.
+//! Block Krylov–Schur iteration for the shift-inverted symmetric pencil.
 //!
 //! For K x = λ M x (K symmetric positive semi-definite, M symmetric positive definite)
 //! and a shift σ, the operator T = (K − σM)⁻¹ M is self-adjoint in the M-inner product
@@ -6,29 +6,42 @@
 //! the largest |θ|, and the huge kernel of K (gradients, λ = 0) maps to θ = −1/σ, far from
 //! the wanted ones.
 //!
-//! The iteration builds an M-orthonormal basis V of a block Krylov space of T (block size
-//! p ≥ the largest expected multiplicity, so that every member of a degenerate group is
-//! found), keeps T V and M V alongside, and extracts Ritz pairs from the projected matrix
-//! H = (MV)ᵀ (TV) = Vᵀ M T V (symmetric). When the basis is full it restarts from the
-//! best Ritz vectors (thick restart, as in Wu & Simon, SIAM J. Matrix Anal. Appl. 22
-//! (2000) 602, from memory) and continues from their residuals. Classical Gram–Schmidt
-//! in the M-inner product is applied twice ("twice is enough") for orthogonality.
+//! The iteration keeps a Krylov decomposition
 //!
-//! Convergence: a Ritz pair (θ, y) is accepted when ‖T y − θ y‖₂ ≤ tol·|θ|·‖y‖₂.
+//!   T V₁ = V₁ H₁₁ + V₂ H₂₁,
+//!
+//! with [V₁ V₂] M-orthonormal (V₂ is the newest block, not yet multiplied by T) and
+//! H₁₁ = V₁ᵀ M T V₁ symmetric. A block step applies T to V₂ (one solve per column: M V₂
+//! is stored, so no mass product is needed), M-orthogonalises the result against the
+//! basis by block classical Gram–Schmidt twice ("twice is enough"), whose coefficients
+//! are the new column block of H, and orthonormalises it inside the block through the
+//! eigen-decomposition of its M-Gram matrix (twice, as for Gram–Schmidt). Block size
+//! p ≥ the largest expected multiplicity, so that every member of a degenerate group is
+//! found.
+//!
+//! Ritz pairs (θ, s) of H₁₁ give approximate eigenpairs (θ, V₁ s) whose residual
+//! T V₁ s − θ V₁ s = V₂ H₂₁ s has M-norm ‖H₂₁ s‖₂, known without touching n-vectors: a
+//! pair is accepted when ‖H₂₁ s‖₂ ≤ tol·|θ|. Convergence is checked after every block,
+//! so the iteration stops as soon as the wanted pairs have converged. When the basis is
+//! full, it is truncated to the leading Ritz vectors with their coupling to V₂ (Krylov–
+//! Schur restart: Stewart, SIAM J. Matrix Anal. Appl. 23 (2001) 601; for the symmetric
+//! case it is the thick restart of Wu & Simon, SIAM J. Matrix Anal. Appl. 22 (2000) 602;
+//! both from memory), which keeps an exact Krylov decomposition.
 
 use crate::error::SolverError;
-use faer::{Mat, MatMut, MatRef, Side};
+use crate::tall_skinny::{add_times, adjoint_times, times};
+use faer::{Mat, MatRef, Side};
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 
-/// The shift-inverted operator and the mass matrix, applied to blocks of vectors.
+/// The shift-inverted operator's two ingredients, applied to blocks of vectors.
 pub trait ShiftInvertOperator: Sync {
     /// Dimension n.
     fn dim(&self) -> usize;
-    /// Y = (K − σM)⁻¹ M X.
-    fn apply(&self, x: MatRef<'_, f64>, y: MatMut<'_, f64>);
+    /// Y = (K − σM)⁻¹ B.
+    fn solve(&self, b: MatRef<'_, f64>, y: faer::MatMut<'_, f64>);
     /// Y = M X.
-    fn mass(&self, x: MatRef<'_, f64>, y: MatMut<'_, f64>);
+    fn mass(&self, x: MatRef<'_, f64>, y: faer::MatMut<'_, f64>);
 }
 
 /// Which eigenvalues are wanted, in terms of θ = 1/(λ − σ): at least the `nearest`
@@ -162,19 +175,32 @@ pub struct RitzPairs {
     pub restarts: usize,
 }
 
-struct Basis {
+/// The Krylov decomposition T V[.., ..done] = V[.., ..used] H[..used, ..done].
+struct Decomposition {
     v: Mat<f64>,
     mv: Mat<f64>,
-    tv: Mat<f64>,
+    h: Mat<f64>,
+    done: usize,
     used: usize,
 }
 
-impl Basis {
-    fn new(n: usize, m: usize) -> Self {
+/// A block M-orthonormalised against the basis: Q (with M Q) and its coordinates.
+struct Orthonormal {
+    q: Mat<f64>,
+    mq: Mat<f64>,
+    /// Coefficients against the basis (used × b).
+    coef: Mat<f64>,
+    /// W − V coef = Q R, R is (rank × b).
+    r: Mat<f64>,
+}
+
+impl Decomposition {
+    fn new(n: usize, capacity: usize) -> Self {
         Self {
-            v: Mat::zeros(n, m),
-            mv: Mat::zeros(n, m),
-            tv: Mat::zeros(n, m),
+            v: Mat::zeros(n, capacity),
+            mv: Mat::zeros(n, capacity),
+            h: Mat::zeros(capacity, capacity),
+            done: 0,
             used: 0,
         }
     }
@@ -188,7 +214,7 @@ impl Basis {
             return;
         }
         let n = self.v.nrows();
-        for mat in [&mut self.v, &mut self.mv, &mut self.tv] {
+        for mat in [&mut self.v, &mut self.mv] {
             let mut bigger = Mat::zeros(n, m);
             bigger
                 .as_mut()
@@ -196,79 +222,113 @@ impl Basis {
                 .copy_from(mat.as_ref().get(.., ..self.used));
             *mat = bigger;
         }
+        let mut h = Mat::zeros(m, m);
+        h.as_mut()
+            .get_mut(..self.used, ..self.used)
+            .copy_from(self.h.as_ref().get(..self.used, ..self.used));
+        self.h = h;
     }
 
-    /// M-orthogonalise the columns of `cand` against the basis and append the ones that
-    /// keep a significant part; returns the number appended. T is applied to them.
-    ///
-    /// Block classical Gram–Schmidt, twice, against the basis (two matrix products that
-    /// read the basis once per block instead of once per column), then modified
-    /// Gram–Schmidt inside the block.
-    fn extend<O: ShiftInvertOperator>(
+    /// M-orthonormalise the columns of `w` against V[.., ..used]: block classical
+    /// Gram–Schmidt twice, then twice an orthonormalisation inside the block through the
+    /// eigen-decomposition of its M-Gram matrix, dropping directions whose new part is
+    /// below 1e-8 of the column's size (already in the span, numerically).
+    fn orthonormalise<O: ShiftInvertOperator>(&self, op: &O, mut w: Mat<f64>) -> Orthonormal {
+        let (n, b, u) = (w.nrows(), w.ncols(), self.used);
+        let mut coef = Mat::<f64>::zeros(u, b);
+        if u > 0 {
+            for _ in 0..2 {
+                let c = adjoint_times(self.mv.as_ref().get(.., ..u), w.as_ref());
+                add_times(w.as_mut(), self.v.as_ref().get(.., ..u), c.as_ref(), -1.0);
+                coef += &c;
+            }
+        }
+        let mut mw = Mat::<f64>::zeros(n, b);
+        op.mass(w.as_ref(), mw.as_mut());
+        let g = adjoint_times(w.as_ref(), mw.as_ref());
+        // Size of each column before projection: ‖w_j‖²_M = ‖coef_j‖² + ‖rest_j‖²_M.
+        let size2 = (0..b)
+            .map(|j| (0..u).map(|i| coef[(i, j)].powi(2)).sum::<f64>() + g[(j, j)].max(0.0))
+            .fold(0.0, f64::max);
+        let (mut q, mut mq, mut r) = (w, mw, Mat::<f64>::identity(b, b));
+        let mut g = g;
+        for _ in 0..2 {
+            let gs = Mat::from_fn(g.nrows(), g.ncols(), |i, j| 0.5 * (g[(i, j)] + g[(j, i)]));
+            let Ok(evd) = gs.self_adjoint_eigen(Side::Lower) else {
+                break;
+            };
+            let lam = evd.S().column_vector();
+            let keep: Vec<usize> = (0..lam.nrows())
+                .filter(|&i| lam[i] > 1e-16 * size2 && lam[i].is_finite())
+                .collect();
+            // Z = U_keep Λ^{-1/2}: Q Z is M-orthonormal; R ← Λ^{1/2} U_keepᵀ R.
+            let z = Mat::from_fn(gs.nrows(), keep.len(), |i, j| {
+                evd.U()[(i, keep[j])] / lam[keep[j]].sqrt()
+            });
+            let zi = Mat::from_fn(keep.len(), gs.nrows(), |i, j| {
+                evd.U()[(j, keep[i])] * lam[keep[i]].sqrt()
+            });
+            q = times(q.as_ref(), z.as_ref());
+            mq = times(mq.as_ref(), z.as_ref());
+            r = &zi * &r;
+            g = adjoint_times(q.as_ref(), mq.as_ref());
+            if keep.is_empty() {
+                break;
+            }
+        }
+        Orthonormal { q, mq, coef, r }
+    }
+
+    /// Append an orthonormal block as the new V₂ (its coupling rows of H are written by
+    /// the caller).
+    fn append(&mut self, block: &Orthonormal) {
+        let (u, r) = (self.used, block.q.ncols());
+        self.v.as_mut().get_mut(.., u..u + r).copy_from(&block.q);
+        self.mv.as_mut().get_mut(.., u..u + r).copy_from(&block.mq);
+        self.used += r;
+    }
+
+    /// Append up to `k` random directions (no coupling), as far as room allows.
+    fn append_random<O: ShiftInvertOperator>(
         &mut self,
         op: &O,
-        cand: MatRef<'_, f64>,
-        applications: &mut usize,
+        k: usize,
+        rng: &mut ChaCha8Rng,
     ) -> usize {
-        let n = self.v.nrows();
-        let start = self.used;
-        let k = cand.ncols().min(self.capacity() - start);
+        let k = k.min(self.capacity() - self.used);
         if k == 0 {
             return 0;
         }
-        let mut c = cand.get(.., ..k).to_owned();
-        let norm0: Vec<f64> = (0..k)
-            .map(|j| c.as_ref().get(.., j..j + 1).norm_l2())
-            .collect();
-        if start > 0 {
-            for _ in 0..2 {
-                let coef = self.mv.as_ref().get(.., ..start).transpose() * c.as_ref();
-                c -= self.v.as_ref().get(.., ..start) * &coef;
-            }
+        let block = self.orthonormalise(op, random_block(self.v.nrows(), k, rng));
+        self.append(&block);
+        block.q.ncols()
+    }
+
+    /// One block step: apply T to V₂, orthonormalise, extend H; V₂ is padded back to `p`
+    /// columns with random directions when T V₂ is (partly) in the span. Returns the
+    /// number of solves.
+    fn step<O: ShiftInvertOperator>(&mut self, op: &O, p: usize, rng: &mut ChaCha8Rng) -> usize {
+        let (d, u) = (self.done, self.used);
+        let b = u - d;
+        let mut w = Mat::<f64>::zeros(self.v.nrows(), b);
+        op.solve(self.mv.as_ref().get(.., d..u), w.as_mut());
+        let block = self.orthonormalise(op, w);
+        let room = self.capacity() - u;
+        let r = block.q.ncols().min(room);
+        let block = Orthonormal {
+            q: block.q.as_ref().get(.., ..r).to_owned(),
+            mq: block.mq.as_ref().get(.., ..r).to_owned(),
+            r: block.r.as_ref().get(..r, ..).to_owned(),
+            coef: block.coef,
+        };
+        self.h.as_mut().get_mut(..u, d..u).copy_from(&block.coef);
+        self.append(&block);
+        self.h.as_mut().get_mut(u..u + r, d..u).copy_from(&block.r);
+        self.done = u;
+        if r < p {
+            self.append_random(op, p - r, rng);
         }
-        let mut mc = Mat::<f64>::zeros(n, 1);
-        for (j, &nrm0) in norm0.iter().enumerate() {
-            if self.used == self.capacity() || nrm0 == 0.0 || !nrm0.is_finite() {
-                continue;
-            }
-            let mut cj = c.as_ref().get(.., j..j + 1).to_owned();
-            for _ in 0..2 {
-                let (s, u) = (start, self.used);
-                if u > s {
-                    let coef = self.mv.as_ref().get(.., s..u).transpose() * cj.as_ref();
-                    cj -= self.v.as_ref().get(.., s..u) * &coef;
-                }
-            }
-            if cj.norm_l2() < 1e-8 * nrm0 {
-                continue; // already (numerically) in the span
-            }
-            op.mass(cj.as_ref(), mc.as_mut());
-            let mnorm2 = (cj.as_ref().transpose() * mc.as_ref())[(0, 0)];
-            if mnorm2 <= 0.0 || !mnorm2.is_finite() {
-                continue;
-            }
-            let sc = 1.0 / mnorm2.sqrt();
-            let u = self.used;
-            self.v
-                .as_mut()
-                .get_mut(.., u..u + 1)
-                .copy_from(cj.as_ref() * faer::Scale(sc));
-            self.mv
-                .as_mut()
-                .get_mut(.., u..u + 1)
-                .copy_from(mc.as_ref() * faer::Scale(sc));
-            self.used += 1;
-        }
-        let added = self.used - start;
-        if added > 0 {
-            let (vv, tv) = (
-                self.v.as_ref().get(.., start..self.used),
-                self.tv.as_mut().get_mut(.., start..self.used),
-            );
-            op.apply(vv, tv);
-            *applications += added;
-        }
-        added
+        b
     }
 }
 
@@ -295,37 +355,27 @@ pub fn solve<O: ShiftInvertOperator>(
     if initial_wanted == 0 {
         return Err(SolverError::InvalidSetting("zero modes requested".into()));
     }
-    let cap_for = |nw: usize| (opts.basis.max(2 * nw + 3 * p)).min(n);
-    let mut basis = Basis::new(n, cap_for(initial_wanted));
+    // Basis size m (Ritz vectors come from V₁, at most m columns) plus room for V₂.
+    let basis_for = |nw: usize| opts.basis.max(2 * nw + 3 * p).min(n);
+    let mut m = basis_for(initial_wanted);
+    let mut dec = Decomposition::new(n, (m + p).min(n));
     let mut rng = ChaCha8Rng::seed_from_u64(opts.seed);
+    dec.append_random(op, p, &mut rng);
     let mut applications = 0usize;
-    let mut cand = random_block(n, p, &mut rng);
     let mut restarts = 0usize;
     loop {
-        // Expand the block Krylov space until the basis is full.
-        while basis.used < basis.capacity() {
-            let before = basis.used;
-            let added = basis.extend(op, cand.as_ref(), &mut applications);
-            if added == 0 {
-                cand = random_block(n, p, &mut rng);
-                if basis.extend(op, cand.as_ref(), &mut applications) == 0 {
-                    break; // the basis spans everything reachable (tiny problems)
-                }
-            }
-            let u = basis.used;
-            let from = if added == 0 { before } else { u - added };
-            cand = basis.tv.as_ref().get(.., from..u).to_owned();
+        if dec.used > dec.done {
+            applications += dec.step(op, p, &mut rng);
         }
-        let u = basis.used;
-        // Rayleigh–Ritz on H = (MV)ᵀ (TV).
-        let h = basis.mv.as_ref().get(.., ..u).transpose() * basis.tv.as_ref().get(.., ..u);
-        let hs = Mat::from_fn(u, u, |i, j| 0.5 * (h[(i, j)] + h[(j, i)]));
+        let (d, u) = (dec.done, dec.used);
+        // Rayleigh–Ritz on H₁₁; residual norms ‖H₂₁ s‖.
+        let hs = Mat::from_fn(d, d, |i, j| 0.5 * (dec.h[(i, j)] + dec.h[(j, i)]));
         let evd = hs.self_adjoint_eigen(Side::Lower).map_err(|e| {
             SolverError::InvalidSetting(format!("projected eigenproblem failed: {e:?}"))
         })?;
         let s_diag = evd.S().column_vector();
-        let abs: Vec<f64> = (0..u).map(|i| s_diag[i].abs()).collect();
-        let dist: Vec<f64> = (0..u)
+        let abs: Vec<f64> = (0..d).map(|i| s_diag[i].abs()).collect();
+        let dist: Vec<f64> = (0..d)
             .map(|i| (s_diag[i] - wanted.kernel_theta.unwrap_or(f64::NAN)).abs())
             .collect();
         let order = wanted.order(&abs, &dist);
@@ -333,22 +383,12 @@ pub fn solve<O: ShiftInvertOperator>(
         let usable = wanted.usable(&order.iter().map(|&i| dist[i]).collect::<Vec<_>>());
         let abs_sorted: Vec<f64> = theta.iter().map(|t| t.abs()).collect();
         let nw = wanted.active(&abs_sorted, usable);
-        // Ritz vectors of the leading part and their residuals.
-        let keep = Wanted::keep(nw, p, basis.capacity(), u);
-        let s_keep = Mat::from_fn(u, keep, |i, j| evd.U()[(i, order[j])]);
-        let y = basis.v.as_ref().get(.., ..u) * &s_keep;
-        let ty = basis.tv.as_ref().get(.., ..u) * &s_keep;
-        let my = basis.mv.as_ref().get(.., ..u) * &s_keep;
-        let mut res = vec![0.0; keep];
-        let mut resid = Mat::<f64>::zeros(n, keep);
-        for j in 0..keep {
-            let t = theta[j];
-            let mut r = ty.as_ref().get(.., j..j + 1).to_owned();
-            r -= y.as_ref().get(.., j..j + 1) * faer::Scale(t);
-            let yn = y.as_ref().get(.., j..j + 1).norm_l2();
-            res[j] = r.norm_l2() / (t.abs() * yn).max(f64::MIN_POSITIVE);
-            resid.as_mut().get_mut(.., j..j + 1).copy_from(&r);
-        }
+        let h21 = dec.h.as_ref().get(d..u, ..d);
+        let res: Vec<f64> = order
+            .iter()
+            .zip(&theta)
+            .map(|(&i, t)| (h21 * evd.U().col(i)).norm_l2() / t.abs().max(f64::MIN_POSITIVE))
+            .collect();
         let converged = res.iter().take(nw).take_while(|&&r| r <= opts.tol).count();
         progress(EigenProgress {
             restarts,
@@ -357,45 +397,59 @@ pub fn solve<O: ShiftInvertOperator>(
             applications,
         });
         // Fewer usable Ritz values than requested (the kernel crowds the basis): go on.
-        let done = converged == nw && nw >= wanted.nearest.min(u);
-        if done || restarts >= opts.max_restarts {
-            if !done {
-                if usable == 0 {
-                    return Err(SolverError::TargetBelowModes);
-                }
-                return Err(SolverError::NotConverged {
-                    found: converged,
-                    wanted: nw,
-                    tol: opts.tol,
-                    restarts,
-                });
-            }
+        let done = nw > 0 && converged == nw && nw >= wanted.nearest.min(d);
+        let exhausted = u == d; // invariant subspace and no room or rank left
+        if done || (exhausted && nw > 0 && converged == nw) {
             let count = wanted.returned(&abs_sorted, nw);
+            let s = Mat::from_fn(d, count, |i, j| evd.U()[(i, order[j])]);
             return Ok(RitzPairs {
                 theta: theta[..count].to_vec(),
-                vectors: y.as_ref().get(.., ..count).to_owned(),
+                vectors: times(dec.v.as_ref().get(.., ..d), s.as_ref()),
                 residuals: res[..count].to_vec(),
                 applications,
                 restarts,
             });
         }
-        // Thick restart: keep the leading Ritz vectors, continue from the residuals of
-        // the unconverged ones (largest first), padded with random directions.
-        restarts += 1;
-        basis.grow(cap_for(nw));
-        basis.v.as_mut().get_mut(.., ..keep).copy_from(&y);
-        basis.tv.as_mut().get_mut(.., ..keep).copy_from(&ty);
-        basis.mv.as_mut().get_mut(.., ..keep).copy_from(&my);
-        basis.used = keep;
-        let mut unconv: Vec<usize> = (0..keep).filter(|&j| res[j] > opts.tol).collect();
-        unconv.sort_by(|&a, &b| res[b].total_cmp(&res[a]));
-        unconv.truncate(p);
-        let mut next = random_block(n, p, &mut rng);
-        for (slot, &j) in unconv.iter().enumerate() {
-            next.as_mut()
-                .get_mut(.., slot..slot + 1)
-                .copy_from(resid.as_ref().get(.., j..j + 1));
+        let full = dec.used + p > dec.capacity() || exhausted;
+        if !full {
+            continue;
         }
-        cand = next;
+        if restarts >= opts.max_restarts || exhausted {
+            if usable == 0 {
+                return Err(SolverError::TargetBelowModes);
+            }
+            return Err(SolverError::NotConverged {
+                found: converged,
+                wanted: nw,
+                tol: opts.tol,
+                restarts,
+            });
+        }
+        // Krylov–Schur restart: V₁ ← V₁ S_k, H₁₁ ← diag θ_k, H₂₁ ← H₂₁ S_k; V₂ stays.
+        restarts += 1;
+        let keep = Wanted::keep(nw, p, m, d);
+        let s = Mat::from_fn(d, keep, |i, j| evd.U()[(i, order[j])]);
+        let y = times(dec.v.as_ref().get(.., ..d), s.as_ref());
+        let my = times(dec.mv.as_ref().get(.., ..d), s.as_ref());
+        let coupling = h21 * &s;
+        let b = u - d;
+        let v2 = dec.v.as_ref().get(.., d..u).to_owned();
+        let mv2 = dec.mv.as_ref().get(.., d..u).to_owned();
+        m = basis_for(nw).max(m);
+        dec.grow((m + p).min(n));
+        dec.v.as_mut().get_mut(.., ..keep).copy_from(&y);
+        dec.mv.as_mut().get_mut(.., ..keep).copy_from(&my);
+        dec.v.as_mut().get_mut(.., keep..keep + b).copy_from(&v2);
+        dec.mv.as_mut().get_mut(.., keep..keep + b).copy_from(&mv2);
+        dec.h.fill(0.0);
+        for (j, &t) in theta.iter().take(keep).enumerate() {
+            dec.h[(j, j)] = t;
+        }
+        dec.h
+            .as_mut()
+            .get_mut(keep..keep + b, ..keep)
+            .copy_from(&coupling);
+        dec.done = keep;
+        dec.used = keep + b;
     }
 }

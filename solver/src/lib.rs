@@ -32,6 +32,7 @@ pub mod modes;
 pub mod ordering;
 pub mod port;
 pub mod problem;
+pub mod tall_skinny;
 
 pub use element::NedelecOrder;
 pub use modes::{solve_modes, Mode, ModeSet, ModeSettings};

@@ -89,13 +89,15 @@ fn run_case(order: u8, per_100mm: usize) {
         .fold(0.0, f64::max);
     let st = &set.stats;
     println!(
-        "order={order} cells/100mm={per_100mm:>2} tets={:>7} unknowns={:>7} mesh={:.2}s assembly={:.2}s factor={:.2}s eigen={:.2}s total={:.2}s factor_nnz={:.1}M peak={:.0}MB modes={} worst_rel_err={:.2e} restarts={} solves={}",
+        "order={order} cells/100mm={per_100mm:>2} tets={:>7} unknowns={:>7} mesh={:.2}s assembly={:.2}s ordering={:.2}s factor={:.2}s eigen={:.2}s checks={:.2}s total={:.2}s factor_nnz={:.1}M peak={:.0}MB modes={} worst_rel_err={:.2e} restarts={} solves={}",
         mesh.tets.len(),
         st.n_dofs,
         mesh_s,
         st.assembly_s,
+        st.ordering_s,
         st.factor_s,
         st.eigen_s,
+        st.checks_s,
         total,
         st.factor_nnz as f64 / 1e6,
         peak_rss_mb(),

@@ -140,11 +140,14 @@ fn dense_case(order: NedelecOrder, n: usize) {
             md.divergence
         );
         // 1e-9 relative: far above the round-off of both solves (dense ≈ 1e-13·λ_max/λ,
-        // shift-invert converged to 1e-10 in θ, whose eigenvalue error is quadratic in
+        // shift-invert converged to 1e-8 in θ, whose eigenvalue error is quadratic in
         // the residual), far below any discretisation difference (common practice,
         // no source).
         assert!((g - w).abs() <= 1e-9 * w, "sparse {g} vs dense {w}");
-        assert!(md.residual < 1e-10, "residual {}", md.residual);
+        // With T y − θ y = r, ‖K y − λ M y‖ = ‖(K − σM) r‖/|θ| ≤ ‖K − σM‖·tol·‖y‖: the
+        // normalised residual is bounded by about the iteration's tolerance 1e-8; the
+        // modes reach 1e-15…4e-10 in practice, so 1e-9 also catches a regression.
+        assert!(md.residual < 1e-9, "residual {}", md.residual);
         assert!(md.divergence < 1e-8, "divergence {}", md.divergence);
         assert!(*g > 0.1 * nonzero[0], "spurious near-zero mode {g}");
     }
