@@ -1,47 +1,148 @@
-//! Block Krylov–Schur iteration for the shift-inverted symmetric pencil.
+//! Block Krylov–Schur iteration for a shift-inverted pencil, real symmetric or complex.
 //!
-//! For K x = λ M x (K symmetric positive semi-definite, M symmetric positive definite)
-//! and a shift σ, the operator T = (K − σM)⁻¹ M is self-adjoint in the M-inner product
-//! ⟨x, y⟩_M = xᵀ M y and has eigenvalues θ = 1/(λ − σ): the eigenvalues nearest σ become
-//! the largest |θ|, and the huge kernel of K (gradients, λ = 0) maps to θ = −1/σ, far from
-//! the wanted ones.
+//! For K x = λ M x and a shift σ, T = (K − σM)⁻¹ M has eigenvalues θ = 1/(λ − σ): the
+//! eigenvalues nearest σ become the largest |θ|, and the huge kernel of the curl-curl
+//! operator (gradients, λ = 0) maps to θ = −1/σ, far from the wanted ones. Two cases:
+//!
+//! - lossless, no ports: K, M real symmetric (K semi-definite, M definite), T is
+//!   self-adjoint in the M-inner product ⟨x, y⟩ = xᵀ M y, the projected matrix is real
+//!   symmetric and θ real;
+//! - losses (εr = ε′ − jε″) or matched ports: the pencil (K + jB, M′ − jM″) is complex
+//!   symmetric but not Hermitian, T is not self-adjoint in any inner product we can form
+//!   cheaply; the Euclidean inner product is used and the projected matrix is general.
 //!
 //! The iteration keeps a Krylov decomposition
 //!
 //!   T V₁ = V₁ H₁₁ + V₂ H₂₁,
 //!
-//! with [V₁ V₂] M-orthonormal (V₂ is the newest block, not yet multiplied by T) and
-//! H₁₁ = V₁ᵀ M T V₁ symmetric. A block step applies T to V₂ (one solve per column: M V₂
-//! is stored, so no mass product is needed), M-orthogonalises the result against the
+//! with [V₁ V₂] orthonormal in the chosen inner product (V₂ is the newest block, not yet
+//! multiplied by T). A block step applies T to V₂, orthogonalises the result against the
 //! basis by block classical Gram–Schmidt twice ("twice is enough"), whose coefficients
 //! are the new column block of H, and orthonormalises it inside the block through the
-//! eigen-decomposition of its M-Gram matrix (twice, as for Gram–Schmidt). Block size
-//! p ≥ the largest expected multiplicity, so that every member of a degenerate group is
-//! found.
+//! eigen-decomposition of its Gram matrix (twice, as for Gram–Schmidt). Block size p ≥
+//! the largest expected multiplicity, so that every member of a degenerate group is found.
 //!
 //! Ritz pairs (θ, s) of H₁₁ give approximate eigenpairs (θ, V₁ s) whose residual
-//! T V₁ s − θ V₁ s = V₂ H₂₁ s has M-norm ‖H₂₁ s‖₂, known without touching n-vectors: a
-//! pair is accepted when ‖H₂₁ s‖₂ ≤ tol·|θ|. Convergence is checked after every block,
-//! so the iteration stops as soon as the wanted pairs have converged. When the basis is
-//! full, it is truncated to the leading Ritz vectors with their coupling to V₂ (Krylov–
-//! Schur restart: Stewart, SIAM J. Matrix Anal. Appl. 23 (2001) 601; for the symmetric
-//! case it is the thick restart of Wu & Simon, SIAM J. Matrix Anal. Appl. 22 (2000) 602;
-//! both from memory), which keeps an exact Krylov decomposition.
+//! T V₁ s − θ V₁ s = V₂ H₂₁ s has norm ‖H₂₁ s‖₂, known without touching n-vectors: a
+//! pair is accepted when ‖H₂₁ s‖₂ ≤ tol·|θ|·‖s‖₂. Convergence is checked after every
+//! block, so the iteration stops as soon as the wanted pairs have converged. When the
+//! basis is full it is truncated to an orthonormal basis Q of the leading Ritz
+//! coordinates (S = QR): V₁ ← V₁Q, H₁₁ ← QᴴH₁₁Q, H₂₁ ← H₂₁Q. Since span S is invariant
+//! under H₁₁ this is again an exact Krylov decomposition (the Krylov–Schur restart;
+//! Stewart, SIAM J. Matrix Anal. Appl. 23 (2001) 601; in the symmetric case Wu & Simon's
+//! thick restart, SIAM J. Matrix Anal. Appl. 22 (2000) 602; both from memory).
 
 use crate::error::SolverError;
 use crate::tall_skinny::{add_times, adjoint_times, times};
-use faer::{Mat, MatRef, Side};
+use faer::traits::ComplexField;
+use faer::{c64, Mat, MatMut, MatRef, Side};
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 
-/// The shift-inverted operator's two ingredients, applied to blocks of vectors.
-pub trait ShiftInvertOperator: Sync {
+/// The shift-inverted operator T and its inner product, applied to blocks of vectors.
+pub trait KrylovOperator<T>: Sync {
     /// Dimension n.
     fn dim(&self) -> usize;
-    /// Y = (K − σM)⁻¹ B.
-    fn solve(&self, b: MatRef<'_, f64>, y: faer::MatMut<'_, f64>);
-    /// Y = M X.
-    fn mass(&self, x: MatRef<'_, f64>, y: faer::MatMut<'_, f64>);
+    /// Whether the inner product is Euclidean; otherwise it is ⟨x, y⟩ = xᴴ M y.
+    fn euclidean(&self) -> bool;
+    /// Y = M X (called only when the inner product is not Euclidean).
+    fn metric(&self, x: MatRef<'_, T>, y: MatMut<'_, T>);
+    /// Y = T V, given V and its metric image (M V, or V when Euclidean).
+    fn apply(&self, v: MatRef<'_, T>, metric_v: MatRef<'_, T>, y: MatMut<'_, T>);
+}
+
+/// The scalar types the iteration runs in: f64 (symmetric case) and c64 (general case).
+pub trait KrylovScalar: ComplexField<Real = f64> + Copy + Send + Sync {
+    /// Complex conjugate (identity for real numbers).
+    fn conjugate(self) -> Self;
+    /// x·r for a real r.
+    fn scaled(self, r: f64) -> Self;
+    /// Real part.
+    fn re(self) -> f64;
+    /// The projected matrix the Ritz values are taken from (the symmetric part, in the
+    /// real symmetric case: H₁₁ is symmetric up to round-off).
+    fn projected(h: MatRef<'_, Self>) -> Mat<Self>;
+    /// Eigenvalues and unit eigenvectors of the projected matrix.
+    fn eigenpairs(h: &Mat<Self>) -> Result<(Vec<Self>, Mat<Self>), SolverError>;
+    /// |x|.
+    fn modulus(self) -> f64;
+    /// x − r for a real r.
+    fn minus_real(self, r: f64) -> Self;
+    /// A random entry with parts uniform in (−1, 1).
+    fn random(rng: &mut ChaCha8Rng) -> Self;
+}
+
+fn projection_failed(e: impl std::fmt::Debug) -> SolverError {
+    SolverError::InvalidSetting(format!("projected eigenproblem failed: {e:?}"))
+}
+
+impl KrylovScalar for f64 {
+    fn conjugate(self) -> Self {
+        self
+    }
+    fn scaled(self, r: f64) -> Self {
+        self * r
+    }
+    fn re(self) -> f64 {
+        self
+    }
+    fn projected(h: MatRef<'_, f64>) -> Mat<f64> {
+        Mat::from_fn(h.nrows(), h.ncols(), |i, j| 0.5 * (h[(i, j)] + h[(j, i)]))
+    }
+    fn eigenpairs(h: &Mat<f64>) -> Result<(Vec<f64>, Mat<f64>), SolverError> {
+        let evd = h
+            .self_adjoint_eigen(Side::Lower)
+            .map_err(projection_failed)?;
+        let s = evd.S().column_vector();
+        Ok(((0..h.nrows()).map(|i| s[i]).collect(), evd.U().to_owned()))
+    }
+    fn modulus(self) -> f64 {
+        self.abs()
+    }
+    fn minus_real(self, r: f64) -> Self {
+        self - r
+    }
+    fn random(rng: &mut ChaCha8Rng) -> Self {
+        rng.gen_range(-1.0..1.0)
+    }
+}
+
+impl KrylovScalar for c64 {
+    fn conjugate(self) -> Self {
+        c64::new(self.re, -self.im)
+    }
+    fn scaled(self, r: f64) -> Self {
+        c64::new(self.re * r, self.im * r)
+    }
+    fn re(self) -> f64 {
+        self.re
+    }
+    fn projected(h: MatRef<'_, c64>) -> Mat<c64> {
+        h.to_owned()
+    }
+    fn eigenpairs(h: &Mat<c64>) -> Result<(Vec<c64>, Mat<c64>), SolverError> {
+        let evd = h.eigen().map_err(projection_failed)?;
+        let s = evd.S().column_vector();
+        let mut u = evd.U().to_owned();
+        for j in 0..u.ncols() {
+            let nrm = u.col(j).norm_l2();
+            if nrm > 0.0 {
+                for i in 0..u.nrows() {
+                    u[(i, j)] /= nrm;
+                }
+            }
+        }
+        Ok(((0..h.nrows()).map(|i| s[i]).collect(), u))
+    }
+    fn modulus(self) -> f64 {
+        self.norm()
+    }
+    fn minus_real(self, r: f64) -> Self {
+        self - c64::new(r, 0.0)
+    }
+    fn random(rng: &mut ChaCha8Rng) -> Self {
+        c64::new(rng.gen_range(-1.0..1.0), rng.gen_range(-1.0..1.0))
+    }
 }
 
 /// Which eigenvalues are wanted, in terms of θ = 1/(λ − σ): at least the `nearest`
@@ -162,12 +263,13 @@ pub struct EigenProgress {
 
 /// Converged Ritz pairs of T, ordered by decreasing |θ|.
 #[derive(Clone, Debug)]
-pub struct RitzPairs {
+pub struct RitzPairs<T> {
     /// θ = 1/(λ − σ).
-    pub theta: Vec<f64>,
-    /// M-orthonormal Ritz vectors, one per column.
-    pub vectors: Mat<f64>,
-    /// Relative residuals ‖T y − θ y‖ / (|θ| ‖y‖).
+    pub theta: Vec<T>,
+    /// Ritz vectors, one per column, of unit norm in the iteration's inner product
+    /// (M-norm in the symmetric case, Euclidean in the general one).
+    pub vectors: Mat<T>,
+    /// Relative residuals ‖T y − θ y‖ / (|θ| ‖y‖) in that norm.
     pub residuals: Vec<f64>,
     /// Number of operator applications (single vectors).
     pub applications: usize,
@@ -176,29 +278,45 @@ pub struct RitzPairs {
 }
 
 /// The Krylov decomposition T V[.., ..done] = V[.., ..used] H[..used, ..done].
-struct Decomposition {
-    v: Mat<f64>,
-    mv: Mat<f64>,
-    h: Mat<f64>,
+struct Decomposition<T> {
+    v: Mat<T>,
+    /// M V (None when the inner product is Euclidean).
+    mv: Option<Mat<T>>,
+    h: Mat<T>,
     done: usize,
     used: usize,
 }
 
-/// A block M-orthonormalised against the basis: Q (with M Q) and its coordinates.
-struct Orthonormal {
-    q: Mat<f64>,
-    mq: Mat<f64>,
+/// A block orthonormalised against the basis: Q (with its metric image) and its
+/// coordinates.
+struct Orthonormal<T> {
+    q: Mat<T>,
+    mq: Option<Mat<T>>,
     /// Coefficients against the basis (used × b).
-    coef: Mat<f64>,
+    coef: Mat<T>,
     /// W − V coef = Q R, R is (rank × b).
-    r: Mat<f64>,
+    r: Mat<T>,
 }
 
-impl Decomposition {
-    fn new(n: usize, capacity: usize) -> Self {
+/// The first `used` columns of `mat` in a matrix of `m` columns.
+fn widened<T: KrylovScalar>(mat: &Mat<T>, used: usize, m: usize) -> Mat<T> {
+    let mut bigger = Mat::zeros(mat.nrows(), m);
+    bigger
+        .as_mut()
+        .get_mut(.., ..used)
+        .copy_from(mat.as_ref().get(.., ..used));
+    bigger
+}
+
+fn one<T: KrylovScalar>() -> T {
+    T::one_impl()
+}
+
+impl<T: KrylovScalar> Decomposition<T> {
+    fn new(n: usize, capacity: usize, euclidean: bool) -> Self {
         Self {
             v: Mat::zeros(n, capacity),
-            mv: Mat::zeros(n, capacity),
+            mv: (!euclidean).then(|| Mat::zeros(n, capacity)),
             h: Mat::zeros(capacity, capacity),
             done: 0,
             used: 0,
@@ -209,87 +327,141 @@ impl Decomposition {
         self.v.ncols()
     }
 
+    /// Metric image of the basis (M V, or V).
+    fn mv(&self) -> MatRef<'_, T> {
+        self.mv.as_ref().unwrap_or(&self.v).as_ref()
+    }
+
     fn grow(&mut self, m: usize) {
         if m <= self.capacity() {
             return;
         }
-        let n = self.v.nrows();
-        for mat in [&mut self.v, &mut self.mv] {
-            let mut bigger = Mat::zeros(n, m);
-            bigger
-                .as_mut()
-                .get_mut(.., ..self.used)
-                .copy_from(mat.as_ref().get(.., ..self.used));
-            *mat = bigger;
-        }
+        let u = self.used;
+        self.v = widened(&self.v, u, m);
+        self.mv = self.mv.as_ref().map(|mv| widened(mv, u, m));
         let mut h = Mat::zeros(m, m);
         h.as_mut()
-            .get_mut(..self.used, ..self.used)
-            .copy_from(self.h.as_ref().get(..self.used, ..self.used));
+            .get_mut(..u, ..u)
+            .copy_from(self.h.as_ref().get(..u, ..u));
         self.h = h;
     }
 
-    /// M-orthonormalise the columns of `w` against V[.., ..used]: block classical
+    /// Orthonormalise the columns of `w` against V[.., ..used]: block classical
     /// Gram–Schmidt twice, then twice an orthonormalisation inside the block through the
-    /// eigen-decomposition of its M-Gram matrix, dropping directions whose new part is
-    /// below 1e-8 of the column's size (already in the span, numerically).
-    fn orthonormalise<O: ShiftInvertOperator>(&self, op: &O, mut w: Mat<f64>) -> Orthonormal {
+    /// eigen-decomposition of its Gram matrix, dropping directions whose new part is
+    /// below 1e-8 of their columns' size (already in the span, numerically).
+    fn orthonormalise<O: KrylovOperator<T>>(&self, op: &O, mut w: Mat<T>) -> Orthonormal<T> {
         let (n, b, u) = (w.nrows(), w.ncols(), self.used);
-        let mut coef = Mat::<f64>::zeros(u, b);
+        let mut coef = Mat::<T>::zeros(u, b);
         if u > 0 {
             for _ in 0..2 {
-                let c = adjoint_times(self.mv.as_ref().get(.., ..u), w.as_ref());
-                add_times(w.as_mut(), self.v.as_ref().get(.., ..u), c.as_ref(), -1.0);
+                let c = adjoint_times(self.mv().get(.., ..u), w.as_ref());
+                add_times(
+                    w.as_mut(),
+                    self.v.as_ref().get(.., ..u),
+                    c.as_ref(),
+                    -one::<T>(),
+                );
                 coef += &c;
             }
         }
-        let mut mw = Mat::<f64>::zeros(n, b);
-        op.mass(w.as_ref(), mw.as_mut());
-        let g = adjoint_times(w.as_ref(), mw.as_ref());
-        // Size of each column before projection: ‖w_j‖²_M = ‖coef_j‖² + ‖rest_j‖²_M.
-        let size2 = (0..b)
-            .map(|j| (0..u).map(|i| coef[(i, j)].powi(2)).sum::<f64>() + g[(j, j)].max(0.0))
-            .fold(0.0, f64::max);
-        let (mut q, mut mq, mut r) = (w, mw, Mat::<f64>::identity(b, b));
-        let mut g = g;
+        let mut mw = (!op.euclidean()).then(|| {
+            let mut mw = Mat::<T>::zeros(n, b);
+            op.metric(w.as_ref(), mw.as_mut());
+            mw
+        });
+        let gram = |q: &Mat<T>, mq: &Option<Mat<T>>| {
+            adjoint_times(q.as_ref(), mq.as_ref().unwrap_or(q).as_ref())
+        };
+        let g0 = gram(&w, &mw);
+        // Each column's size before projection, ‖w_j‖² = ‖coef_j‖² + ‖rest_j‖²; columns
+        // are scaled to unit size so that "negligible" is judged per column (one column
+        // can be 1e16 times the others when the shift sits on an eigenvalue).
+        let size: Vec<f64> = (0..b)
+            .map(|j| {
+                let s2 = (0..u).map(|i| coef[(i, j)].modulus().powi(2)).sum::<f64>()
+                    + g0[(j, j)].modulus();
+                if s2 > 0.0 && s2.is_finite() {
+                    s2.sqrt()
+                } else {
+                    1.0
+                }
+            })
+            .collect();
+        let d = Mat::<T>::from_fn(b, b, |i, j| {
+            if i == j {
+                one::<T>().scaled(1.0 / size[j])
+            } else {
+                T::zero_impl()
+            }
+        });
+        w = times(w.as_ref(), d.as_ref());
+        mw = mw.map(|m| times(m.as_ref(), d.as_ref()));
+        let mut g = Mat::from_fn(b, b, |i, j| g0[(i, j)].scaled(1.0 / (size[i] * size[j])));
+        // W_original = W_scaled · diag(size) = Q R.
+        let mut r = Mat::<T>::from_fn(b, b, |i, j| {
+            if i == j {
+                one::<T>().scaled(size[j])
+            } else {
+                T::zero_impl()
+            }
+        });
         for _ in 0..2 {
-            let gs = Mat::from_fn(g.nrows(), g.ncols(), |i, j| 0.5 * (g[(i, j)] + g[(j, i)]));
-            let Ok(evd) = gs.self_adjoint_eigen(Side::Lower) else {
+            // The Gram matrix is Hermitian positive semi-definite: its Hermitian part.
+            let gh = Mat::from_fn(g.nrows(), g.ncols(), |i, j| {
+                (g[(i, j)] + g[(j, i)].conjugate()).scaled(0.5)
+            });
+            let Ok(evd) = gh.self_adjoint_eigen(Side::Lower) else {
                 break;
             };
-            let lam = evd.S().column_vector();
-            let keep: Vec<usize> = (0..lam.nrows())
-                .filter(|&i| lam[i] > 1e-16 * size2 && lam[i].is_finite())
+            let lam: Vec<f64> = (0..gh.nrows())
+                .map(|i| evd.S().column_vector()[i].re())
                 .collect();
-            // Z = U_keep Λ^{-1/2}: Q Z is M-orthonormal; R ← Λ^{1/2} U_keepᵀ R.
-            let z = Mat::from_fn(gs.nrows(), keep.len(), |i, j| {
-                evd.U()[(i, keep[j])] / lam[keep[j]].sqrt()
+            let keep: Vec<usize> = (0..lam.len())
+                .filter(|&i| lam[i] > 1e-16 && lam[i].is_finite())
+                .collect();
+            // Z = U_keep Λ^{-1/2}: W Z is orthonormal; R ← Λ^{1/2} U_keepᴴ R.
+            let z = Mat::from_fn(gh.nrows(), keep.len(), |i, j| {
+                evd.U()[(i, keep[j])].scaled(1.0 / lam[keep[j]].sqrt())
             });
-            let zi = Mat::from_fn(keep.len(), gs.nrows(), |i, j| {
-                evd.U()[(j, keep[i])] * lam[keep[i]].sqrt()
+            let zi = Mat::from_fn(keep.len(), gh.nrows(), |i, j| {
+                evd.U()[(j, keep[i])]
+                    .conjugate()
+                    .scaled(lam[keep[i]].sqrt())
             });
-            q = times(q.as_ref(), z.as_ref());
-            mq = times(mq.as_ref(), z.as_ref());
+            w = times(w.as_ref(), z.as_ref());
+            mw = mw.map(|m| times(m.as_ref(), z.as_ref()));
             r = &zi * &r;
-            g = adjoint_times(q.as_ref(), mq.as_ref());
+            g = gram(&w, &mw);
             if keep.is_empty() {
                 break;
             }
         }
-        Orthonormal { q, mq, coef, r }
+        Orthonormal {
+            q: w,
+            mq: mw,
+            coef,
+            r,
+        }
     }
 
-    /// Append an orthonormal block as the new V₂ (its coupling rows of H are written by
-    /// the caller).
-    fn append(&mut self, block: &Orthonormal) {
-        let (u, r) = (self.used, block.q.ncols());
-        self.v.as_mut().get_mut(.., u..u + r).copy_from(&block.q);
-        self.mv.as_mut().get_mut(.., u..u + r).copy_from(&block.mq);
+    /// Append the first `r` columns of an orthonormal block as part of V₂.
+    fn append(&mut self, block: &Orthonormal<T>, r: usize) {
+        let u = self.used;
+        self.v
+            .as_mut()
+            .get_mut(.., u..u + r)
+            .copy_from(block.q.as_ref().get(.., ..r));
+        if let (Some(mv), Some(mq)) = (self.mv.as_mut(), block.mq.as_ref()) {
+            mv.as_mut()
+                .get_mut(.., u..u + r)
+                .copy_from(mq.as_ref().get(.., ..r));
+        }
         self.used += r;
     }
 
     /// Append up to `k` random directions (no coupling), as far as room allows.
-    fn append_random<O: ShiftInvertOperator>(
+    fn append_random<O: KrylovOperator<T>>(
         &mut self,
         op: &O,
         k: usize,
@@ -299,50 +471,80 @@ impl Decomposition {
         if k == 0 {
             return 0;
         }
-        let block = self.orthonormalise(op, random_block(self.v.nrows(), k, rng));
-        self.append(&block);
-        block.q.ncols()
+        let w = Mat::from_fn(self.v.nrows(), k, |_, _| T::random(rng));
+        let block = self.orthonormalise(op, w);
+        let r = block.q.ncols();
+        self.append(&block, r);
+        r
     }
 
     /// One block step: apply T to V₂, orthonormalise, extend H; V₂ is padded back to `p`
     /// columns with random directions when T V₂ is (partly) in the span. Returns the
-    /// number of solves.
-    fn step<O: ShiftInvertOperator>(&mut self, op: &O, p: usize, rng: &mut ChaCha8Rng) -> usize {
+    /// number of operator applications.
+    fn step<O: KrylovOperator<T>>(&mut self, op: &O, p: usize, rng: &mut ChaCha8Rng) -> usize {
         let (d, u) = (self.done, self.used);
         let b = u - d;
-        let mut w = Mat::<f64>::zeros(self.v.nrows(), b);
-        op.solve(self.mv.as_ref().get(.., d..u), w.as_mut());
+        let mut w = Mat::<T>::zeros(self.v.nrows(), b);
+        op.apply(
+            self.v.as_ref().get(.., d..u),
+            self.mv().get(.., d..u),
+            w.as_mut(),
+        );
         let block = self.orthonormalise(op, w);
-        let room = self.capacity() - u;
-        let r = block.q.ncols().min(room);
-        let block = Orthonormal {
-            q: block.q.as_ref().get(.., ..r).to_owned(),
-            mq: block.mq.as_ref().get(.., ..r).to_owned(),
-            r: block.r.as_ref().get(..r, ..).to_owned(),
-            coef: block.coef,
-        };
+        let r = block.q.ncols().min(self.capacity() - u);
         self.h.as_mut().get_mut(..u, d..u).copy_from(&block.coef);
-        self.append(&block);
-        self.h.as_mut().get_mut(u..u + r, d..u).copy_from(&block.r);
+        self.append(&block, r);
+        self.h
+            .as_mut()
+            .get_mut(u..u + r, d..u)
+            .copy_from(block.r.as_ref().get(..r, ..));
         self.done = u;
         if r < p {
             self.append_random(op, p - r, rng);
         }
         b
     }
+
+    /// Krylov–Schur truncation to the span of the Ritz coordinates `s` (done × k).
+    fn truncate(&mut self, s: MatRef<'_, T>, m: usize, p: usize) {
+        let (d, u) = (self.done, self.used);
+        let (k, b) = (s.ncols(), u - d);
+        let q = s.qr().compute_thin_Q();
+        let h11 = T::projected(self.h.as_ref().get(..d, ..d));
+        let new_h11 = q.adjoint() * &h11 * &q;
+        let coupling = self.h.as_ref().get(d..u, ..d) * &q;
+        let y = times(self.v.as_ref().get(.., ..d), q.as_ref());
+        let v2 = self.v.as_ref().get(.., d..u).to_owned();
+        let my = self
+            .mv
+            .as_ref()
+            .map(|mv| times(mv.as_ref().get(.., ..d), q.as_ref()));
+        let mv2 = self
+            .mv
+            .as_ref()
+            .map(|mv| mv.as_ref().get(.., d..u).to_owned());
+        self.grow((m + p).min(self.v.nrows()));
+        self.v.as_mut().get_mut(.., ..k).copy_from(&y);
+        self.v.as_mut().get_mut(.., k..k + b).copy_from(&v2);
+        if let (Some(mv), Some(my), Some(mv2)) = (self.mv.as_mut(), my, mv2) {
+            mv.as_mut().get_mut(.., ..k).copy_from(&my);
+            mv.as_mut().get_mut(.., k..k + b).copy_from(&mv2);
+        }
+        self.h.fill(T::zero_impl());
+        self.h.as_mut().get_mut(..k, ..k).copy_from(&new_h11);
+        self.h.as_mut().get_mut(k..k + b, ..k).copy_from(&coupling);
+        self.done = k;
+        self.used = k + b;
+    }
 }
 
-fn random_block(n: usize, p: usize, rng: &mut ChaCha8Rng) -> Mat<f64> {
-    Mat::from_fn(n, p, |_, _| rng.gen_range(-1.0..1.0))
-}
-
-/// Find the wanted eigenpairs of T = (K − σM)⁻¹ M.
-pub fn solve<O: ShiftInvertOperator>(
+/// Find the wanted eigenpairs of T.
+pub fn solve<T: KrylovScalar, O: KrylovOperator<T>>(
     op: &O,
     wanted: Wanted,
     opts: &EigenOptions,
     progress: &mut dyn FnMut(EigenProgress),
-) -> Result<RitzPairs, SolverError> {
+) -> Result<RitzPairs<T>, SolverError> {
     let n = op.dim();
     if n == 0 {
         return Err(SolverError::NoUnknowns);
@@ -358,7 +560,7 @@ pub fn solve<O: ShiftInvertOperator>(
     // Basis size m (Ritz vectors come from V₁, at most m columns) plus room for V₂.
     let basis_for = |nw: usize| opts.basis.max(2 * nw + 3 * p).min(n);
     let mut m = basis_for(initial_wanted);
-    let mut dec = Decomposition::new(n, (m + p).min(n));
+    let mut dec = Decomposition::<T>::new(n, (m + p).min(n), op.euclidean());
     let mut rng = ChaCha8Rng::seed_from_u64(opts.seed);
     dec.append_random(op, p, &mut rng);
     let mut applications = 0usize;
@@ -369,25 +571,26 @@ pub fn solve<O: ShiftInvertOperator>(
         }
         let (d, u) = (dec.done, dec.used);
         // Rayleigh–Ritz on H₁₁; residual norms ‖H₂₁ s‖.
-        let hs = Mat::from_fn(d, d, |i, j| 0.5 * (dec.h[(i, j)] + dec.h[(j, i)]));
-        let evd = hs.self_adjoint_eigen(Side::Lower).map_err(|e| {
-            SolverError::InvalidSetting(format!("projected eigenproblem failed: {e:?}"))
-        })?;
-        let s_diag = evd.S().column_vector();
-        let abs: Vec<f64> = (0..d).map(|i| s_diag[i].abs()).collect();
-        let dist: Vec<f64> = (0..d)
-            .map(|i| (s_diag[i] - wanted.kernel_theta.unwrap_or(f64::NAN)).abs())
+        let (values, vectors) = T::eigenpairs(&T::projected(dec.h.as_ref().get(..d, ..d)))?;
+        let abs: Vec<f64> = values.iter().map(|t| t.modulus()).collect();
+        let kernel = wanted.kernel_theta.unwrap_or(f64::NAN);
+        let dist: Vec<f64> = values
+            .iter()
+            .map(|t| t.minus_real(kernel).modulus())
             .collect();
         let order = wanted.order(&abs, &dist);
-        let theta: Vec<f64> = order.iter().map(|&i| s_diag[i]).collect();
+        let theta: Vec<T> = order.iter().map(|&i| values[i]).collect();
         let usable = wanted.usable(&order.iter().map(|&i| dist[i]).collect::<Vec<_>>());
-        let abs_sorted: Vec<f64> = theta.iter().map(|t| t.abs()).collect();
+        let abs_sorted: Vec<f64> = theta.iter().map(|t| t.modulus()).collect();
         let nw = wanted.active(&abs_sorted, usable);
         let h21 = dec.h.as_ref().get(d..u, ..d);
         let res: Vec<f64> = order
             .iter()
-            .zip(&theta)
-            .map(|(&i, t)| (h21 * evd.U().col(i)).norm_l2() / t.abs().max(f64::MIN_POSITIVE))
+            .zip(&abs_sorted)
+            .map(|(&i, a)| {
+                let s = vectors.col(i);
+                (h21 * s).norm_l2() / (a * s.norm_l2()).max(f64::MIN_POSITIVE)
+            })
             .collect();
         let converged = res.iter().take(nw).take_while(|&&r| r <= opts.tol).count();
         progress(EigenProgress {
@@ -397,11 +600,14 @@ pub fn solve<O: ShiftInvertOperator>(
             applications,
         });
         // Fewer usable Ritz values than requested (the kernel crowds the basis): go on.
-        let done = nw > 0 && converged == nw && nw >= wanted.nearest.min(d);
-        let exhausted = u == d; // invariant subspace and no room or rank left
-        if done || (exhausted && nw > 0 && converged == nw) {
+        let all_converged = nw > 0 && converged == nw;
+        let exhausted = u == d; // T V₂ in the span and no room or rank for new directions
+        if all_converged && (nw >= wanted.nearest.min(d) || exhausted) {
             let count = wanted.returned(&abs_sorted, nw);
-            let s = Mat::from_fn(d, count, |i, j| evd.U()[(i, order[j])]);
+            let s = Mat::from_fn(d, count, |i, j| {
+                let c = vectors.col(order[j]);
+                c[i].scaled(1.0 / c.norm_l2())
+            });
             return Ok(RitzPairs {
                 theta: theta[..count].to_vec(),
                 vectors: times(dec.v.as_ref().get(.., ..d), s.as_ref()),
@@ -410,8 +616,7 @@ pub fn solve<O: ShiftInvertOperator>(
                 restarts,
             });
         }
-        let full = dec.used + p > dec.capacity() || exhausted;
-        if !full {
+        if dec.used + p <= dec.capacity() && !exhausted {
             continue;
         }
         if restarts >= opts.max_restarts || exhausted {
@@ -425,31 +630,10 @@ pub fn solve<O: ShiftInvertOperator>(
                 restarts,
             });
         }
-        // Krylov–Schur restart: V₁ ← V₁ S_k, H₁₁ ← diag θ_k, H₂₁ ← H₂₁ S_k; V₂ stays.
         restarts += 1;
         let keep = Wanted::keep(nw, p, m, d);
-        let s = Mat::from_fn(d, keep, |i, j| evd.U()[(i, order[j])]);
-        let y = times(dec.v.as_ref().get(.., ..d), s.as_ref());
-        let my = times(dec.mv.as_ref().get(.., ..d), s.as_ref());
-        let coupling = h21 * &s;
-        let b = u - d;
-        let v2 = dec.v.as_ref().get(.., d..u).to_owned();
-        let mv2 = dec.mv.as_ref().get(.., d..u).to_owned();
+        let s = Mat::from_fn(d, keep, |i, j| vectors[(i, order[j])]);
         m = basis_for(nw).max(m);
-        dec.grow((m + p).min(n));
-        dec.v.as_mut().get_mut(.., ..keep).copy_from(&y);
-        dec.mv.as_mut().get_mut(.., ..keep).copy_from(&my);
-        dec.v.as_mut().get_mut(.., keep..keep + b).copy_from(&v2);
-        dec.mv.as_mut().get_mut(.., keep..keep + b).copy_from(&mv2);
-        dec.h.fill(0.0);
-        for (j, &t) in theta.iter().take(keep).enumerate() {
-            dec.h[(j, j)] = t;
-        }
-        dec.h
-            .as_mut()
-            .get_mut(keep..keep + b, ..keep)
-            .copy_from(&coupling);
-        dec.done = keep;
-        dec.used = keep + b;
+        dec.truncate(s.as_ref(), m, p);
     }
 }

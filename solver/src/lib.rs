@@ -14,7 +14,6 @@
 //!
 //! This crate knows nothing of files or terminals.
 
-pub mod arnoldi;
 pub mod assembly;
 pub mod barycentric;
 pub mod budget;

@@ -9,7 +9,8 @@
 //! * Lossy loads (ε″ > 0) or ports: (K + jβP) x = λ (M′ − jM″) x is complex symmetric;
 //!   A = K + jβP − σ(M′ − jM″) is factorised through the equivalent real symmetric system
 //!   [[Ar, −Ai], [−Ai, −Ar]] (A = Ar + jAi; x = xr + j xi ↔ [xr; xi], right-hand side
-//!   [br; −bi]) and the general iteration of [`crate::arnoldi`] runs on A⁻¹M. β is taken
+//!   [br; −bi]) and the iteration of [`crate::eigen`] runs on A⁻¹M in complex arithmetic
+//!   with the Euclidean inner product. β is taken
 //!   at the target and refined per mode by first-order perturbation,
 //!   δλ = j Σ_p Δβ_p N_p c_p² / (xᵀ M x) (left eigenvector = x for a complex symmetric
 //!   pencil), iterated to a fixed point.
@@ -23,10 +24,9 @@
 //!   zero for a true resonance and O(1) for a gradient (spurious, zero-frequency) field.
 //!   Fields with a figure above [`SPURIOUS_DIVERGENCE`] are dropped and counted.
 
-use crate::arnoldi::{self, ComplexOperator};
 use crate::assembly::{assemble, spmm, spmv, RegionMaterial, SparseMatrix, SystemMatrices};
 use crate::dofmap::DofMap;
-use crate::eigen::{self, EigenOptions, EigenProgress, ShiftInvertOperator, Wanted};
+use crate::eigen::{self, EigenOptions, EigenProgress, KrylovOperator, Wanted};
 use crate::element::NedelecOrder;
 use crate::error::SolverError;
 use crate::factor::{FactorKind, SymmetricFactor};
@@ -222,16 +222,20 @@ fn col(x: MatRef<'_, f64>, j: usize) -> &[f64] {
         .as_slice()
 }
 
-impl ShiftInvertOperator for RealShiftInvert<'_> {
+impl KrylovOperator<f64> for RealShiftInvert<'_> {
     fn dim(&self) -> usize {
         self.mass.rows()
     }
-    fn solve(&self, b: MatRef<'_, f64>, mut y: MatMut<'_, f64>) {
-        y.copy_from(b);
-        self.factor.solve_refined(&self.shifted, y, self.refine);
+    fn euclidean(&self) -> bool {
+        false
     }
-    fn mass(&self, x: MatRef<'_, f64>, y: MatMut<'_, f64>) {
+    fn metric(&self, x: MatRef<'_, f64>, y: MatMut<'_, f64>) {
         spmm(self.mass, x, y);
+    }
+    /// T V = (K − σM)⁻¹ (M V): the stored M V saves the mass product.
+    fn apply(&self, _v: MatRef<'_, f64>, mv: MatRef<'_, f64>, mut y: MatMut<'_, f64>) {
+        y.copy_from(mv);
+        self.factor.solve_refined(&self.shifted, y, self.refine);
     }
 }
 
@@ -318,42 +322,35 @@ struct ComplexShiftInvert<'a> {
     refine: usize,
 }
 
-impl ComplexOperator for ComplexShiftInvert<'_> {
+impl KrylovOperator<c64> for ComplexShiftInvert<'_> {
     fn dim(&self) -> usize {
         self.m_re.rows()
     }
-    fn apply(&self, x: MatRef<'_, c64>, mut y: MatMut<'_, c64>) {
-        let n = self.dim();
-        let k = x.ncols();
+    fn euclidean(&self) -> bool {
+        true
+    }
+    fn metric(&self, x: MatRef<'_, c64>, mut y: MatMut<'_, c64>) {
+        y.copy_from(x);
+    }
+    fn apply(&self, x: MatRef<'_, c64>, _metric_x: MatRef<'_, c64>, mut y: MatMut<'_, c64>) {
+        let (n, k) = (self.dim(), x.ncols());
+        let xr = Mat::<f64>::from_fn(n, k, |i, j| x[(i, j)].re);
+        let xi = Mat::<f64>::from_fn(n, k, |i, j| x[(i, j)].im);
+        // b = (M′ − jM″)(xr + j xi): br = M′xr + M″xi, bi = M′xi − M″xr; rhs [br; −bi].
         let mut rhs = Mat::<f64>::zeros(2 * n, k);
-        let mut xr = vec![0.0; n];
-        let mut xi = vec![0.0; n];
-        let mut t = vec![0.0; n];
-        for j in 0..k {
-            for i in 0..n {
-                xr[i] = x[(i, j)].re;
-                xi[i] = x[(i, j)].im;
-            }
-            // b = (M′ − jM″)(xr + j xi): br = M′xr + M″xi, bi = M′xi − M″xr; rhs [br; −bi].
-            spmv(self.m_re, &xr, &mut t);
-            for i in 0..n {
-                rhs[(i, j)] = t[i];
-            }
-            spmv(self.m_re, &xi, &mut t);
-            for i in 0..n {
-                rhs[(n + i, j)] = -t[i];
-            }
-            if let Some(mi) = self.m_im {
-                spmv(mi, &xi, &mut t);
-                for i in 0..n {
-                    rhs[(i, j)] += t[i];
-                }
-                spmv(mi, &xr, &mut t);
-                for i in 0..n {
-                    rhs[(n + i, j)] += t[i];
-                }
-            }
+        spmm(self.m_re, xr.as_ref(), rhs.as_mut().get_mut(..n, ..));
+        spmm(self.m_re, xi.as_ref(), rhs.as_mut().get_mut(n.., ..));
+        if let Some(mi) = self.m_im {
+            let mut t = Mat::<f64>::zeros(n, k);
+            spmm(mi, xi.as_ref(), t.as_mut());
+            let top = rhs.as_ref().get(..n, ..) + &t;
+            rhs.as_mut().get_mut(..n, ..).copy_from(&top);
+            spmm(mi, xr.as_ref(), t.as_mut());
+            let bottom = rhs.as_ref().get(n.., ..) - &t;
+            rhs.as_mut().get_mut(n.., ..).copy_from(&bottom);
         }
+        let bottom = rhs.as_ref().get(n.., ..) * faer::Scale(-1.0);
+        rhs.as_mut().get_mut(n.., ..).copy_from(&bottom);
         self.factor
             .solve_refined(&self.big, rhs.as_mut(), self.refine);
         for j in 0..k {
@@ -576,7 +573,7 @@ pub fn solve_modes(
             refine: settings.refine,
         };
         let t2 = Instant::now();
-        let ritz = arnoldi::solve(&op, wanted, &settings.eigen, &mut |p| {
+        let ritz = eigen::solve(&op, wanted, &settings.eigen, &mut |p| {
             progress(Stage::Eigen(p))
         })?;
         let eigen_s = t2.elapsed().as_secs_f64();

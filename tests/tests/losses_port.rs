@@ -82,7 +82,7 @@ fn port_energy_balance() {
 
 /// The three most strongly coupled modes (slow: two re-solves each).
 #[test]
-#[ignore = "about 40 s"]
+#[ignore = "about 10 s"]
 fn port_energy_balance_three_modes() {
     energy_balance(3);
 }
@@ -90,7 +90,9 @@ fn port_energy_balance_three_modes() {
 fn energy_balance(n_modes: usize) {
     let mesh = fed_mesh();
     let f_band = 2.45e9;
-    let (modes, secs) = solve(&mesh, f_band, 6);
+    // Six modes nearest the target per coupled mode wanted: by symmetry only some modes
+    // couple to the centred aperture.
+    let (modes, secs) = solve(&mesh, f_band, 6 * n_modes);
     println!(
         "box {SIZE:?} m, TE10 aperture 75 × 40 mm on x = a (cutoff {:.3} GHz), PEC walls; \
          target {:.2} GHz: {} modes, {secs:.2} s",
@@ -112,14 +114,14 @@ fn energy_balance(n_modes: usize) {
             m.residual
         );
     }
-    // The three most strongly coupled propagating modes (smallest Q_ext).
-    let mut coupled: Vec<&Mode> = modes
-        .iter()
-        .filter(|m| m.q.q_ports[0].is_finite())
-        .collect();
+    // The `n_modes` most strongly coupled propagating modes (smallest Q_ext).
+    // Modes the symmetry of the box and aperture decouples come out with Q_ext ≳ 1e15
+    // (round-off coupling); 1e6 separates them from fed modes by many orders (rule of
+    // thumb, no source).
+    let mut coupled: Vec<&Mode> = modes.iter().filter(|m| m.q.q_ports[0] < 1e6).collect();
     coupled.sort_by(|x, y| x.q.q_ports[0].total_cmp(&y.q.q_ports[0]));
     coupled.truncate(n_modes);
-    assert!(!coupled.is_empty(), "no coupled mode");
+    assert_eq!(coupled.len(), n_modes, "fewer coupled modes than asked");
     println!(
         "  {:>10} {:>10} {:>11} {:>11} {:>10} {:>10} {:>10} {:>10} {:>10}",
         "f GHz",
