@@ -24,6 +24,7 @@ pub mod error;
 pub mod factor;
 pub mod field;
 pub mod topology;
+pub mod triangular;
 
 pub use error::SolverError;
 pub mod losses;
