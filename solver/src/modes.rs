@@ -77,7 +77,8 @@ pub struct ModeSettings {
     pub target_hz: f64,
     /// Every mode in this band (Hz) is wanted.
     pub band_hz: Option<[f64; 2]>,
-    /// At least this many modes nearest the target are wanted.
+    /// This many modes nearest the target are wanted; when the last of them belongs to a
+    /// degenerate group (within [`DEGENERATE_REL`]), the whole group is returned.
     pub count: usize,
     pub factor: FactorKind,
     /// Iterative refinement steps per solve (0 or 1).

@@ -315,42 +315,40 @@ impl<'a> Supernode<'a> {
     }
 }
 
+/// The supernode's own rows, column-major per right-hand side: xt[j·size + c].
+///
+/// # Safety
+/// The caller owns the rows of the supernode.
+unsafe fn own_rows<'b>(sn: &Supernode<'_>, x: Rows, xt: &'b mut Vec<f64>) -> &'b mut Vec<f64> {
+    let (size, k) = (sn.size, x.k);
+    xt.clear();
+    xt.resize(size * k, 0.0);
+    for c in 0..size {
+        for (j, &v) in x.row(sn.start + c).iter().enumerate() {
+            xt[j * size + c] = v;
+        }
+    }
+    xt
+}
+
+/// Write the rows gathered by [`own_rows`] back.
+///
+/// # Safety
+/// The caller owns the rows of the supernode.
+unsafe fn store_own_rows(sn: &Supernode<'_>, x: Rows, xt: &[f64]) {
+    for c in 0..sn.size {
+        for (j, v) in x.row(sn.start + c).iter_mut().enumerate() {
+            *v = xt[j * sn.size + c];
+        }
+    }
+}
+
 /// Forward elimination and diagonal solve of supernode s. Updates for rows past the
 /// task's cut go to `buf` (indexed by the top position) when given, else to x directly.
 ///
 /// # Safety
 /// The caller owns the rows of s and the rows it updates directly.
 unsafe fn forward(
-    f: &LbltFactor<'_>,
-    sched: &TreeSchedule,
-    s: usize,
-    x: Rows,
-    buf: Option<&mut Vec<f64>>,
-    scratch: &mut Scratch,
-) {
-    #[cfg(target_arch = "x86_64")]
-    if std::arch::is_x86_feature_detected!("avx2") && std::arch::is_x86_feature_detected!("fma") {
-        return forward_avx2(f, sched, s, x, buf, scratch);
-    }
-    forward_impl(f, sched, s, x, buf, scratch)
-}
-
-/// [`forward_impl`] compiled for AVX2 and FMA (chosen at run time).
-#[cfg(target_arch = "x86_64")]
-#[target_feature(enable = "avx2,fma")]
-unsafe fn forward_avx2(
-    f: &LbltFactor<'_>,
-    sched: &TreeSchedule,
-    s: usize,
-    x: Rows,
-    buf: Option<&mut Vec<f64>>,
-    scratch: &mut Scratch,
-) {
-    forward_impl(f, sched, s, x, buf, scratch)
-}
-
-#[inline(always)]
-unsafe fn forward_impl(
     f: &LbltFactor<'_>,
     sched: &TreeSchedule,
     s: usize,
@@ -365,15 +363,7 @@ unsafe fn forward_impl(
     } else {
         plen
     };
-    // Own rows, column-major per right-hand side: xt[j * size + c].
-    scratch.top.clear();
-    scratch.top.resize(size * k, 0.0);
-    let xt = &mut scratch.top;
-    for c in 0..size {
-        for (j, &v) in x.row(sn.start + c).iter().enumerate() {
-            xt[j * size + c] = v;
-        }
-    }
+    let xt = own_rows(&sn, x, &mut scratch.top);
     // L_top z = y (unit lower), then the pattern rows' updates t = L_bot z.
     scratch.bottom.clear();
     scratch.bottom.resize(plen * k, 0.0);
@@ -424,11 +414,7 @@ unsafe fn forward_impl(
             i += 2;
         }
     }
-    for c in 0..size {
-        for (j, v) in x.row(sn.start + c).iter_mut().enumerate() {
-            *v = xt[j * size + c];
-        }
-    }
+    store_own_rows(&sn, x, xt);
 }
 
 /// Backward substitution of supernode s with Lᵀ.
@@ -436,22 +422,6 @@ unsafe fn forward_impl(
 /// # Safety
 /// The caller owns the rows of s; the rows it reads are not written meanwhile.
 unsafe fn backward(f: &LbltFactor<'_>, s: usize, x: Rows, scratch: &mut Scratch) {
-    #[cfg(target_arch = "x86_64")]
-    if std::arch::is_x86_feature_detected!("avx2") && std::arch::is_x86_feature_detected!("fma") {
-        return backward_avx2(f, s, x, scratch);
-    }
-    backward_impl(f, s, x, scratch)
-}
-
-/// [`backward_impl`] compiled for AVX2 and FMA (chosen at run time).
-#[cfg(target_arch = "x86_64")]
-#[target_feature(enable = "avx2,fma")]
-unsafe fn backward_avx2(f: &LbltFactor<'_>, s: usize, x: Rows, scratch: &mut Scratch) {
-    backward_impl(f, s, x, scratch)
-}
-
-#[inline(always)]
-unsafe fn backward_impl(f: &LbltFactor<'_>, s: usize, x: Rows, scratch: &mut Scratch) {
     let sn = Supernode::of(f, s);
     let (size, nr, plen, k) = (sn.size, sn.rows(), sn.pattern.len(), x.k);
     scratch.bottom.clear();
@@ -462,14 +432,7 @@ unsafe fn backward_impl(f: &LbltFactor<'_>, s: usize, x: Rows, scratch: &mut Scr
             t[j * plen + idx] = v;
         }
     }
-    scratch.top.clear();
-    scratch.top.resize(size * k, 0.0);
-    let xt = &mut scratch.top;
-    for c in 0..size {
-        for (j, &v) in x.row(sn.start + c).iter().enumerate() {
-            xt[j * size + c] = v;
-        }
-    }
+    let xt = own_rows(&sn, x, &mut scratch.top);
     {
         let l = MatRef::from_column_major_slice(sn.val, nr, size);
         let (l_top, l_bot) = l.split_at_row(size);
@@ -485,9 +448,5 @@ unsafe fn backward_impl(f: &LbltFactor<'_>, s: usize, x: Rows, scratch: &mut Scr
         );
         solve_unit_upper_triangular_in_place(l_top.transpose(), u.as_mut(), Par::Seq);
     }
-    for c in 0..size {
-        for (j, v) in x.row(sn.start + c).iter_mut().enumerate() {
-            *v = xt[j * size + c];
-        }
-    }
+    store_own_rows(&sn, x, xt);
 }

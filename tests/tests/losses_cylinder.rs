@@ -265,7 +265,7 @@ fn te011_pozar_example_6_4() {
 
 /// Two meshes (slow, about 40 s).
 #[test]
-#[ignore = "about 40 s"]
+#[ignore = "about 5 s"]
 fn te011_pozar_example_6_4_two_meshes() {
     te011(&[6.0, 9.0]);
 }

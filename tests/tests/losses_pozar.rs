@@ -245,7 +245,7 @@ fn pozar_example_6_3() {
 
 /// Convergence study (slow): five meshes per mode; also asserts the observed order.
 #[test]
-#[ignore = "convergence study, about 3 minutes"]
+#[ignore = "convergence study, about 20 s"]
 fn pozar_example_6_3_convergence() {
     for l in [1usize, 2] {
         let d = length(l);
