@@ -245,43 +245,28 @@ fn cylinder_cavity_ports() {
 
 #[test]
 fn syntax_error_has_line() {
-    let text = format!("{BASE}[mesh]\norder = = 2\n");
-    rejects(&text, line_of(&text, "order = ="), &[]);
+    rejects_at(&format!("{BASE}[mesh]\norder = = 2\n"), "order = =", &[]);
 }
 
 #[test]
 fn unknown_top_level_key() {
-    let text = format!("{BASE}colour = \"red\"\n");
-    rejects(
-        &text,
-        line_of(&text, "colour"),
+    rejects_at(
+        &format!("{BASE}colour = \"red\"\n"),
+        "colour",
         &["colour", "expected one of"],
     );
 }
 
 #[test]
 fn unknown_key_in_load_names_the_load() {
-    let text = with_load(
-        BASE,
-        "name = \"bowl\"\nshape = \"box\"\nmin = [0,0,0]\nmax = [1,1,1]\nmaterial = \"ptfe\"\ncolour = 3",
-    );
-    rejects(
-        &text,
-        line_of(&text, "colour"),
-        &["colour", "load \"bowl\""],
-    );
+    rejects_load(BASE, "name = \"bowl\"\nshape = \"box\"\nmin = [0,0,0]\nmax = [1,1,1]\nmaterial = \"ptfe\"\ncolour = 3", "colour", &["colour", "load \"bowl\""]);
 }
 
 #[test]
 fn unknown_key_in_port_names_the_port() {
-    let text = format!(
+    rejects_at(&format!(
         "{BASE}[[port]]\nname = \"feed\"\nwall = \"+x\"\ncenter = [100, 100]\nwidth = 80\nheight = 40\nimpedance = 50\n"
-    );
-    rejects(
-        &text,
-        line_of(&text, "impedance"),
-        &["impedance", "port \"feed\""],
-    );
+    ), "impedance", &["impedance", "port \"feed\""]);
 }
 
 #[test]
@@ -302,15 +287,7 @@ fn non_positive_cavity_size() {
 
 #[test]
 fn non_finite_load_radius() {
-    let text = with_load(
-        BASE,
-        "name = \"cup\"\nshape = \"cylinder\"\ncenter = [100, 100]\nradius = nan\nbottom = 0\nheight = 10\nmaterial = \"water\"",
-    );
-    rejects(
-        &text,
-        line_of(&text, "radius"),
-        &["load \"cup\"", "radius", "NaN", "finite"],
-    );
+    rejects_load(BASE, "name = \"cup\"\nshape = \"cylinder\"\ncenter = [100, 100]\nradius = nan\nbottom = 0\nheight = 10\nmaterial = \"water\"", "radius", &["load \"cup\"", "radius", "NaN", "finite"]);
 }
 
 #[test]
@@ -338,64 +315,24 @@ fn box_load_with_inverted_corners() {
 
 #[test]
 fn load_outside_box_cavity() {
-    let text = with_load(
-        BASE,
-        "name = \"slab\"\nshape = \"box\"\nmin = [250, 10, 10]\nmax = [310, 50, 20]\nmaterial = \"ptfe\"",
-    );
-    rejects(
-        &text,
-        line_of(&text, "[[load]]"),
-        &["load \"slab\"", "310", "outside"],
-    );
+    rejects_load(BASE, "name = \"slab\"\nshape = \"box\"\nmin = [250, 10, 10]\nmax = [310, 50, 20]\nmaterial = \"ptfe\"", "[[load]]", &["load \"slab\"", "310", "outside"]);
 }
 
 #[test]
 fn cylinder_load_outside_box_cavity_in_z() {
-    let text = with_load(
-        BASE,
-        "name = \"tall\"\nshape = \"cylinder\"\ncenter = [100, 100]\nradius = 20\nbottom = 150\nheight = 60\nmaterial = \"potato\"",
-    );
-    rejects(
-        &text,
-        line_of(&text, "[[load]]"),
-        &["load \"tall\"", "210", "outside"],
-    );
+    rejects_load(BASE, "name = \"tall\"\nshape = \"cylinder\"\ncenter = [100, 100]\nradius = 20\nbottom = 150\nheight = 60\nmaterial = \"potato\"", "[[load]]", &["load \"tall\"", "210", "outside"]);
 }
 
 #[test]
 fn cylinder_load_footprint_outside_box_cavity() {
-    let text = with_load(
-        BASE,
-        "name = \"cup\"\nshape = \"cylinder\"\ncenter = [15, 100]\nradius = 20\nbottom = 0\nheight = 10\nmaterial = \"water\"",
-    );
-    rejects(
-        &text,
-        line_of(&text, "[[load]]"),
-        &["load \"cup\"", "-5", "outside"],
-    );
+    rejects_load(BASE, "name = \"cup\"\nshape = \"cylinder\"\ncenter = [15, 100]\nradius = 20\nbottom = 0\nheight = 10\nmaterial = \"water\"", "[[load]]", &["load \"cup\"", "-5", "outside"]);
 }
 
 #[test]
 fn loads_outside_cylinder_cavity() {
-    let text = with_load(
-        CYL,
-        "name = \"cup\"\nshape = \"cylinder\"\ncenter = [100, 0]\nradius = 60\nbottom = 0\nheight = 10\nmaterial = \"water\"",
-    );
-    rejects(
-        &text,
-        line_of(&text, "[[load]]"),
-        &["load \"cup\"", "160.000", "150"],
-    );
+    rejects_load(CYL, "name = \"cup\"\nshape = \"cylinder\"\ncenter = [100, 0]\nradius = 60\nbottom = 0\nheight = 10\nmaterial = \"water\"", "[[load]]", &["load \"cup\"", "160.000", "150"]);
     // A box whose corner (120, 120) is 169.7 mm from the axis.
-    let text = with_load(
-        CYL,
-        "name = \"tray\"\nshape = \"box\"\nmin = [-120, -120, 0]\nmax = [120, 120, 5]\nmaterial = \"ptfe\"",
-    );
-    rejects(
-        &text,
-        line_of(&text, "[[load]]"),
-        &["load \"tray\"", "120", "169.706"],
-    );
+    rejects_load(CYL, "name = \"tray\"\nshape = \"box\"\nmin = [-120, -120, 0]\nmax = [120, 120, 5]\nmaterial = \"ptfe\"", "[[load]]", &["load \"tray\"", "120", "169.706"]);
 }
 
 #[test]
@@ -465,90 +402,50 @@ fn port_does_not_fit_box_wall() {
 fn rotated_port_does_not_fit() {
     // Rotated: broad side along z; on the -z wall (x, y) it is along y: 150 ± 43.18 fits,
     // but on the -y wall (x, z) z = 180 ± 43.18 does not.
-    let text = format!(
+    rejects_at(&format!(
         "{BASE}[[port]]\nwall = \"-y\"\ncenter = [150, 180]\nwidth = 86.36\nheight = 43.18\nrotated = true\n"
-    );
-    rejects(
-        &text,
-        line_of(&text, "[[port]]"),
-        &["port \"port1\"", "223.18"],
-    );
+    ), "[[port]]", &["port \"port1\"", "223.18"]);
 }
 
 #[test]
 fn port_does_not_fit_cylinder_top() {
-    let text = format!(
+    rejects_at(&format!(
         "{CYL}[[port]]\nname = \"lid\"\nwall = \"top\"\ncenter = [120, 0]\nwidth = 86.36\nheight = 43.18\n"
-    );
-    rejects(
-        &text,
-        line_of(&text, "[[port]]"),
-        &["port \"lid\"", "top", "163.18"],
-    );
+    ), "[[port]]", &["port \"lid\"", "top", "163.18"]);
 }
 
 #[test]
 fn port_does_not_fit_cylinder_side() {
-    let text = format!(
+    rejects_at(&format!(
         "{CYL}[[port]]\nname = \"wide\"\nwall = \"side\"\ncenter = [0, 100]\nwidth = 480\nheight = 43.18\n"
-    );
-    rejects(
-        &text,
-        line_of(&text, "[[port]]"),
-        &["port \"wide\"", "480", "471.239"],
-    );
-    let text = format!(
+    ), "[[port]]", &["port \"wide\"", "480", "471.239"]);
+    rejects_at(&format!(
         "{CYL}[[port]]\nname = \"low\"\nwall = \"side\"\ncenter = [0, 10]\nwidth = 86.36\nheight = 43.18\n"
-    );
-    rejects(
-        &text,
-        line_of(&text, "[[port]]"),
-        &["port \"low\"", "-11.59"],
-    );
+    ), "[[port]]", &["port \"low\"", "-11.59"]);
 }
 
 #[test]
 fn port_on_wrong_wall_for_shape() {
-    let text = format!(
+    rejects_at(&format!(
         "{BASE}[[port]]\nname = \"feed\"\nwall = \"top\"\ncenter = [150, 150]\nwidth = 86.36\nheight = 43.18\n"
-    );
-    rejects(
-        &text,
-        line_of(&text, "wall = \"top\""),
-        &["port \"feed\"", "\"top\"", "\"+z\""],
-    );
-    let text = format!(
+    ), "wall = \"top\"", &["port \"feed\"", "\"top\"", "\"+z\""]);
+    rejects_at(&format!(
         "{CYL}[[port]]\nname = \"feed\"\nwall = \"+x\"\ncenter = [0, 100]\nwidth = 86.36\nheight = 43.18\n"
-    );
-    rejects(
-        &text,
-        line_of(&text, "wall = \"+x\""),
-        &["port \"feed\"", "\"+x\"", "\"side\""],
-    );
+    ), "wall = \"+x\"", &["port \"feed\"", "\"+x\"", "\"side\""]);
 }
 
 #[test]
 fn angle_only_on_side_wall() {
-    let text = format!(
+    rejects_at(&format!(
         "{CYL}[[port]]\nname = \"lid\"\nwall = \"top\"\nangle_deg = 30\ncenter = [0, 0]\nwidth = 86.36\nheight = 43.18\n"
-    );
-    rejects(
-        &text,
-        line_of(&text, "angle_deg"),
-        &["port \"lid\"", "angle_deg", "30"],
-    );
+    ), "angle_deg", &["port \"lid\"", "angle_deg", "30"]);
 }
 
 #[test]
 fn narrow_side_larger_than_broad_side() {
-    let text = format!(
+    rejects_at(&format!(
         "{BASE}[[port]]\nname = \"feed\"\nwall = \"+x\"\ncenter = [150, 100]\nwidth = 43.18\nheight = 86.36\n"
-    );
-    rejects(
-        &text,
-        line_of(&text, "height = 86.36"),
-        &["port \"feed\"", "86.36", "rotated"],
-    );
+    ), "height = 86.36", &["port \"feed\"", "86.36", "rotated"]);
 }
 
 #[test]
@@ -573,15 +470,7 @@ fn unknown_material_lists_known_ones() {
 
 #[test]
 fn metal_as_load_material() {
-    let text = with_load(
-        BASE,
-        "name = \"spoon\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = \"copper\"",
-    );
-    rejects(
-        &text,
-        line_of(&text, "material"),
-        &["load \"spoon\"", "copper", "metal"],
-    );
+    rejects_load(BASE, "name = \"spoon\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = \"copper\"", "material", &["load \"spoon\"", "copper", "metal"]);
 }
 
 #[test]
@@ -628,59 +517,29 @@ fn negative_losses() {
 
 #[test]
 fn permittivity_below_one() {
-    let text = with_load(
-        BASE,
-        "name = \"foam\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = { permittivity = 0.5 }",
-    );
-    rejects(
-        &text,
-        line_of(&text, "material"),
-        &["load \"foam\"", "permittivity", "0.5", ">= 1"],
-    );
+    rejects_load(BASE, "name = \"foam\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = { permittivity = 0.5 }", "material", &["load \"foam\"", "permittivity", "0.5", ">= 1"]);
+}
+
+/// [`rejects`] at the first line containing `line_needle`.
+fn rejects_at(text: &str, line_needle: &str, needles: &[&str]) -> GeometryError {
+    rejects(text, line_of(text, line_needle), needles)
+}
+
+/// [`rejects_at`] for `base` with one `[[load]]` table (body `load`) appended.
+fn rejects_load(base: &str, load: &str, line_needle: &str, needles: &[&str]) -> GeometryError {
+    rejects_at(&with_load(base, load), line_needle, needles)
 }
 
 #[test]
 fn two_loss_kinds_and_unknown_material_key() {
-    let text = with_load(
-        BASE,
-        "name = \"x\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = { permittivity = 4, loss_tangent = 0.1, loss_factor = 0.4 }",
-    );
-    rejects(
-        &text,
-        line_of(&text, "material"),
-        &["load \"x\"", "only one"],
-    );
-    let text = with_load(
-        BASE,
-        "name = \"y\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = { permittivity = 4, tan_d = 0.1 }",
-    );
-    rejects(
-        &text,
-        line_of(&text, "material"),
-        &["load \"y\"", "tan_d", "loss_tangent"],
-    );
+    rejects_load(BASE, "name = \"x\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = { permittivity = 4, loss_tangent = 0.1, loss_factor = 0.4 }", "material", &["load \"x\"", "only one"]);
+    rejects_load(BASE, "name = \"y\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = { permittivity = 4, tan_d = 0.1 }", "material", &["load \"y\"", "tan_d", "loss_tangent"]);
 }
 
 #[test]
 fn water_temperature_checks() {
-    let text = with_load(
-        BASE,
-        "name = \"hot\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = \"water\"\ntemperature = 120",
-    );
-    rejects(
-        &text,
-        line_of(&text, "temperature"),
-        &["load \"hot\"", "120", "0..100"],
-    );
-    let text = with_load(
-        BASE,
-        "name = \"warm\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = \"ptfe\"\ntemperature = 40",
-    );
-    rejects(
-        &text,
-        line_of(&text, "temperature"),
-        &["load \"warm\"", "40", "water"],
-    );
+    rejects_load(BASE, "name = \"hot\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = \"water\"\ntemperature = 120", "temperature", &["load \"hot\"", "120", "0..100"]);
+    rejects_load(BASE, "name = \"warm\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = \"ptfe\"\ntemperature = 40", "temperature", &["load \"warm\"", "40", "water"]);
 }
 
 #[test]
@@ -691,18 +550,19 @@ fn mesh_settings_checks() {
         line_of(&text, "order"),
         &["[mesh]", "order = 3", "1 or 2"],
     );
-    let text = format!("{BASE}[mesh]\nper_wavelength = 0\n");
-    rejects(
-        &text,
-        line_of(&text, "per_wavelength"),
+    rejects_at(
+        &format!("{BASE}[mesh]\nper_wavelength = 0\n"),
+        "per_wavelength",
         &["per_wavelength = 0", "positive"],
     );
-    let text = format!("{BASE}[mesh]\nmax_size = -20\n");
-    rejects(&text, line_of(&text, "max_size"), &["max_size = -20"]);
-    let text = format!("{BASE}[mesh]\nunit_mm = 1000\n");
-    rejects(
-        &text,
-        line_of(&text, "unit_mm"),
+    rejects_at(
+        &format!("{BASE}[mesh]\nmax_size = -20\n"),
+        "max_size",
+        &["max_size = -20"],
+    );
+    rejects_at(
+        &format!("{BASE}[mesh]\nunit_mm = 1000\n"),
+        "unit_mm",
         &["unit_mm = 1000", "import"],
     );
 }
@@ -723,8 +583,11 @@ fn solve_settings_checks() {
     );
     let text = format!("{BASE}[solve]\nband = [2.4, 2.4]\n");
     rejects(&text, line_of(&text, "band"), &["band = [2.4, 2.4]"]);
-    let text = format!("{BASE}[solve]\ncount = 0\n");
-    rejects(&text, line_of(&text, "count"), &["count = 0", "at least 1"]);
+    rejects_at(
+        &format!("{BASE}[solve]\ncount = 0\n"),
+        "count",
+        &["count = 0", "at least 1"],
+    );
 }
 
 #[test]
@@ -765,10 +628,10 @@ fn duplicate_port_names_including_defaults() {
 
 #[test]
 fn load_without_shape_when_not_importing() {
-    let text = with_load(BASE, "name = \"blob\"\nmaterial = \"potato\"");
-    rejects(
-        &text,
-        line_of(&text, "[[load]]"),
+    rejects_load(
+        BASE,
+        "name = \"blob\"\nmaterial = \"potato\"",
+        "[[load]]",
         &["load \"blob\"", "shape", "import"],
     );
 }
