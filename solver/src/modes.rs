@@ -26,7 +26,9 @@
 
 use crate::assembly::{assemble, spmm, spmv, RegionMaterial, SparseMatrix, SystemMatrices};
 use crate::dofmap::DofMap;
-use crate::eigen::{self, EigenOptions, EigenProgress, KrylovOperator, Wanted};
+use crate::eigen::{
+    self, EigenOptions, EigenProgress, KrylovOperator, KrylovScalar, RitzPairs, Wanted,
+};
 use crate::element::NedelecOrder;
 use crate::error::SolverError;
 use crate::factor::{FactorKind, SymmetricFactor};
@@ -362,6 +364,35 @@ impl KrylovOperator<c64> for ComplexShiftInvert<'_> {
     }
 }
 
+/// Factorise the shifted matrix (timed from `started`, which includes building it), wrap
+/// it in the operator `make_op` builds, and run the eigen iteration. Returns the Ritz
+/// pairs, factorisation and iteration seconds, and the factor's entry count.
+#[allow(clippy::too_many_arguments)]
+fn factor_and_iterate<T: KrylovScalar, O: KrylovOperator<T>>(
+    shifted: SparseMatrix,
+    ordering: Option<(Vec<u32>, Vec<u32>)>,
+    started: Instant,
+    settings: &ModeSettings,
+    wanted: Wanted,
+    progress: &mut dyn FnMut(Stage),
+    make_op: impl FnOnce(SparseMatrix, SymmetricFactor) -> O,
+) -> Result<(RitzPairs<T>, f64, f64, usize), SolverError> {
+    let factor = SymmetricFactor::new(
+        &shifted,
+        settings.factor,
+        Par::Seq,
+        ordering.as_ref().map(|(f, i)| (&f[..], &i[..])),
+    )?;
+    let factor_s = started.elapsed().as_secs_f64();
+    let factor_nnz = factor.factor_nnz();
+    let op = make_op(shifted, factor);
+    let t = Instant::now();
+    let ritz = eigen::solve(&op, wanted, &settings.eigen, &mut |p| {
+        progress(Stage::Eigen(p))
+    })?;
+    Ok((ritz, factor_s, t.elapsed().as_secs_f64(), factor_nnz))
+}
+
 /// A computed eigenpair before post-processing (reduced unknowns).
 struct RawMode {
     lambda: c64,
@@ -456,8 +487,8 @@ pub fn solve_modes(
     // Measured on 2 cores: the sequential supernodal kernels beat the threaded ones here,
     // and the tall-skinny dense products of the eigen iteration lose more to thread
     // barriers than they gain (~30 % of the iteration time in synchronisation), so faer
-    // runs sequentially; rayon still parallelises assembly and sparse products.
-    let par = Par::Seq;
+    // runs sequentially; rayon parallelises assembly, sparse products, the block solves
+    // (over subtrees) and the dense products (over rows).
     faer::set_global_parallelism(Par::Seq);
     progress(Stage::Factorization { n_dofs: n, nnz });
     let t_order = Instant::now();
@@ -469,25 +500,21 @@ pub fn solve_modes(
     let (raw, factor_s, eigen_s, factor_nnz, applications, restarts) = if !complex {
         let t1 = Instant::now();
         let a = combine(&[(1.0, &sys.stiffness), (-sigma, &sys.mass_real)]);
-        let factor = SymmetricFactor::new(
-            &a,
-            settings.factor,
-            par,
-            ordering.as_ref().map(|(f, i)| (&f[..], &i[..])),
+        let solved = factor_and_iterate(
+            a,
+            ordering.clone(),
+            t1,
+            settings,
+            wanted,
+            progress,
+            |shifted, factor| RealShiftInvert {
+                shifted,
+                factor,
+                mass: &sys.mass_real,
+                refine: settings.refine,
+            },
         )?;
-        let factor_s = t1.elapsed().as_secs_f64();
-        let factor_nnz = factor.factor_nnz();
-        let op = RealShiftInvert {
-            shifted: a,
-            factor,
-            mass: &sys.mass_real,
-            refine: settings.refine,
-        };
-        let t2 = Instant::now();
-        let ritz = eigen::solve(&op, wanted, &settings.eigen, &mut |p| {
-            progress(Stage::Eigen(p))
-        })?;
-        let eigen_s = t2.elapsed().as_secs_f64();
+        let (ritz, factor_s, eigen_s, factor_nnz) = solved;
         let mut kx = vec![0.0; n];
         let mut mx = vec![0.0; n];
         let raw: Vec<RawMode> = ritz
@@ -558,26 +585,22 @@ pub fn solve_modes(
         let ai = with_pattern(&im_terms);
         let big = real_form(&ar, &ai);
         let ordering2 = ordering.as_ref().map(|(f, _)| doubled(f));
-        let factor = SymmetricFactor::new(
-            &big,
-            settings.factor,
-            par,
-            ordering2.as_ref().map(|(f, i)| (&f[..], &i[..])),
-        )?;
-        let factor_s = t1.elapsed().as_secs_f64();
-        let factor_nnz = factor.factor_nnz();
-        let op = ComplexShiftInvert {
+        let solved = factor_and_iterate(
             big,
-            factor,
-            m_re: &sys.mass_real,
-            m_im: sys.mass_imag.as_ref(),
-            refine: settings.refine,
-        };
-        let t2 = Instant::now();
-        let ritz = eigen::solve(&op, wanted, &settings.eigen, &mut |p| {
-            progress(Stage::Eigen(p))
-        })?;
-        let eigen_s = t2.elapsed().as_secs_f64();
+            ordering2,
+            t1,
+            settings,
+            wanted,
+            progress,
+            |big, factor| ComplexShiftInvert {
+                big,
+                factor,
+                m_re: &sys.mass_real,
+                m_im: sys.mass_imag.as_ref(),
+                refine: settings.refine,
+            },
+        )?;
+        let (ritz, factor_s, eigen_s, factor_nnz) = solved;
         let raw: Vec<RawMode> = ritz
             .theta
             .iter()
