@@ -10,7 +10,9 @@
 //! 151M with minimum degree, 238M with a median-plane geometric dissection.
 
 use crate::assembly::SparseMatrix;
-use metis_sys::{idx_t, METIS_NodeND, METIS_SetDefaultOptions, METIS_NOPTIONS};
+use metis_sys::{
+    idx_t, METIS_ComputeVertexSeparator, METIS_NodeND, METIS_SetDefaultOptions, METIS_NOPTIONS,
+};
 
 /// A nested-dissection permutation of the unknowns of `a` (symmetric pattern): returns
 /// (forward, inverse) with forward[k] = the unknown eliminated k-th and
@@ -52,31 +54,19 @@ pub fn nested_dissection(a: &SparseMatrix) -> Option<(Vec<u32>, Vec<u32>)> {
         }
         xadj.push(adjncy.len() as idx_t);
     }
-    let mut nv = ng as idx_t;
-    let mut options = [0 as idx_t; METIS_NOPTIONS as usize];
-    let mut perm = vec![0 as idx_t; ng];
-    let mut iperm = vec![0 as idx_t; ng];
     // Vertex weights: the number of unknowns each graph vertex stands for.
-    let mut vwgt: Vec<idx_t> = (0..ng)
-        .map(|g| (group_start[g + 1] - group_start[g]) as idx_t)
-        .collect();
-    // SAFETY: the arrays have the lengths METIS_NodeND documents (xadj ng + 1, adjncy
-    // xadj[ng], vwgt, perm and iperm ng, options METIS_NOPTIONS).
-    let status = unsafe {
-        METIS_SetDefaultOptions(options.as_mut_ptr());
-        METIS_NodeND(
-            &mut nv,
-            xadj.as_mut_ptr(),
-            adjncy.as_mut_ptr(),
-            vwgt.as_mut_ptr(),
-            options.as_mut_ptr(),
-            perm.as_mut_ptr(),
-            iperm.as_mut_ptr(),
-        )
+    let graph = Graph {
+        xadj,
+        adjncy,
+        vwgt: (0..ng)
+            .map(|g| (group_start[g + 1] - group_start[g]) as idx_t)
+            .collect(),
     };
-    if status != metis_sys::rstatus_et_METIS_OK {
-        return None;
-    }
+    let perm = if ng >= SPLIT_ABOVE && rayon::current_num_threads() >= 2 {
+        graph.split_then_order()
+    } else {
+        graph.node_nd()
+    }?;
     // METIS: row i of the permuted matrix is row perm[i] of the original.
     let forward: Vec<u32> = perm
         .iter()
@@ -87,6 +77,115 @@ pub fn nested_dissection(a: &SparseMatrix) -> Option<(Vec<u32>, Vec<u32>)> {
         inverse[v as usize] = k as u32;
     }
     Some((forward, inverse))
+}
+
+/// Below this many graph vertices the ordering runs as one METIS call.
+const SPLIT_ABOVE: usize = 20_000;
+
+/// An undirected graph in METIS's CSR form, with vertex weights.
+struct Graph {
+    xadj: Vec<idx_t>,
+    adjncy: Vec<idx_t>,
+    vwgt: Vec<idx_t>,
+}
+
+impl Graph {
+    fn len(&self) -> usize {
+        self.vwgt.len()
+    }
+
+    /// METIS nested dissection: the vertices in elimination order.
+    fn node_nd(mut self) -> Option<Vec<idx_t>> {
+        let n = self.len();
+        if n == 0 {
+            return Some(Vec::new());
+        }
+        let mut nv = n as idx_t;
+        let mut options = [0 as idx_t; METIS_NOPTIONS as usize];
+        let mut perm = vec![0 as idx_t; n];
+        let mut iperm = vec![0 as idx_t; n];
+        // SAFETY: the arrays have the lengths METIS_NodeND documents (xadj n + 1, adjncy
+        // xadj[n], vwgt, perm and iperm n, options METIS_NOPTIONS).
+        let status = unsafe {
+            METIS_SetDefaultOptions(options.as_mut_ptr());
+            METIS_NodeND(
+                &mut nv,
+                self.xadj.as_mut_ptr(),
+                self.adjncy.as_mut_ptr(),
+                self.vwgt.as_mut_ptr(),
+                options.as_mut_ptr(),
+                perm.as_mut_ptr(),
+                iperm.as_mut_ptr(),
+            )
+        };
+        (status == metis_sys::rstatus_et_METIS_OK).then_some(perm)
+    }
+
+    /// The top level of the dissection by hand, the two halves on two threads: METIS's
+    /// vertex separator splits the graph, each side is ordered by nested dissection, the
+    /// separator goes last (what METIS_NodeND does at its top level, sequentially).
+    /// Measured on 2 cores: ordering time −40 % at equal factor size (box, order 1 and 2).
+    fn split_then_order(mut self) -> Option<Vec<idx_t>> {
+        let n = self.len();
+        let mut nv = n as idx_t;
+        let mut options = [0 as idx_t; METIS_NOPTIONS as usize];
+        let mut sepsize: idx_t = 0;
+        let mut part = vec![0 as idx_t; n];
+        // SAFETY: lengths as METIS_ComputeVertexSeparator documents (xadj n + 1, adjncy
+        // xadj[n], vwgt and part n, options METIS_NOPTIONS).
+        let status = unsafe {
+            METIS_SetDefaultOptions(options.as_mut_ptr());
+            METIS_ComputeVertexSeparator(
+                &mut nv,
+                self.xadj.as_mut_ptr(),
+                self.adjncy.as_mut_ptr(),
+                self.vwgt.as_mut_ptr(),
+                options.as_mut_ptr(),
+                &mut sepsize,
+                part.as_mut_ptr(),
+            )
+        };
+        if status != metis_sys::rstatus_et_METIS_OK || !(0..2).all(|s| part.contains(&s)) {
+            return self.node_nd();
+        }
+        let (side0, map0) = self.induced(&part, 0);
+        let (side1, map1) = self.induced(&part, 1);
+        let (p0, p1) = rayon::join(|| side0.node_nd(), || side1.node_nd());
+        let mut order: Vec<idx_t> = p0?.iter().map(|&v| map0[v as usize]).collect();
+        order.extend(p1?.iter().map(|&v| map1[v as usize]));
+        order.extend((0..n as idx_t).filter(|&v| part[v as usize] == 2));
+        Some(order)
+    }
+
+    /// The subgraph on the vertices with `part[v] == side`, and its vertices' original
+    /// numbers.
+    fn induced(&self, part: &[idx_t], side: idx_t) -> (Graph, Vec<idx_t>) {
+        let old: Vec<idx_t> = (0..self.len() as idx_t)
+            .filter(|&v| part[v as usize] == side)
+            .collect();
+        let mut new_of = vec![-1 as idx_t; self.len()];
+        for (i, &v) in old.iter().enumerate() {
+            new_of[v as usize] = i as idx_t;
+        }
+        let mut xadj = Vec::with_capacity(old.len() + 1);
+        let mut adjncy = Vec::new();
+        xadj.push(0);
+        for &v in &old {
+            let (s, e) = (
+                self.xadj[v as usize] as usize,
+                self.xadj[v as usize + 1] as usize,
+            );
+            adjncy.extend(
+                self.adjncy[s..e]
+                    .iter()
+                    .map(|&w| new_of[w as usize])
+                    .filter(|&w| w >= 0),
+            );
+            xadj.push(adjncy.len() as idx_t);
+        }
+        let vwgt = old.iter().map(|&v| self.vwgt[v as usize]).collect();
+        (Graph { xadj, adjncy, vwgt }, old)
+    }
 }
 
 /// Column indices of row r (CSR).
