@@ -171,9 +171,9 @@ impl SymmetricFactor {
         self.symbolic.len_val()
     }
 
-    /// Solve A X = B in place (B has any number of columns). With several columns the
-    /// two halves are solved concurrently: the sequential supernodal kernels then keep
-    /// both cores busy without thread barriers inside the kernels.
+    /// Solve A X = B in place (B has any number of columns). A supernodal LBLᵀ factor is
+    /// applied tree-parallel ([`triangular`]); otherwise faer's solve runs on the two
+    /// halves of the block concurrently.
     pub fn solve_in_place(&self, rhs: MatMut<'_, f64>) {
         if let (
             Numeric::Lblt {
