@@ -88,7 +88,7 @@ fn small_box_order2() {
 }
 
 /// 300×300×200 mm (a domestic-oven size) around the ISM band, order 2, h = 20 mm:
-/// 26 modes in 6 groups (≈ 40 s on 2 cores).
+/// 26 modes in 6 groups.
 #[test]
 #[ignore]
 fn oven_box_order2() {
@@ -114,7 +114,7 @@ fn oven_box_order1() {
 }
 
 /// The ISM band on the order-2 mesh h = 20 mm (window widened automatically; ≈ 80k
-/// unknowns, ≈ 20 s on 2 cores).
+/// unknowns).
 #[test]
 fn oven_box_ism_band_order2() {
     box_case(

@@ -41,30 +41,28 @@ struct PillMode {
     label: String,
 }
 
+/// (n, m, Bessel zero) of a mode family's transverse pattern.
+type Zero = (usize, usize, f64);
+
 fn pillbox_modes(a: f64, d: f64, k2_max: f64) -> Vec<PillMode> {
     let mut out = Vec::new();
     let tm = [(0, 1, P01), (1, 1, P11)];
     let te = [(1, 1, PP11), (2, 1, PP21), (0, 1, PP01)];
+    // TM_nmp exist from p = 0, TE_nmp from p = 1; n ≥ 1 comes in two polarisations.
+    let families: [(&str, usize, &[Zero]); 2] = [("TM", 0, &tm), ("TE", 1, &te)];
     for p in 0..20 {
         let kz2 = (p as f64 * PI / d).powi(2);
-        for &(n, m, x) in &tm {
-            let kt2 = (x / a).powi(2);
-            for _ in 0..if n >= 1 { 2 } else { 1 } {
-                out.push(PillMode {
-                    k2: kt2 + kz2,
-                    kt2,
-                    label: format!("TM{n}{m}{p}"),
-                });
+        for (family, p_min, table) in families {
+            if p < p_min {
+                continue;
             }
-        }
-        if p >= 1 {
-            for &(n, m, x) in &te {
+            for &(n, m, x) in table {
                 let kt2 = (x / a).powi(2);
                 for _ in 0..if n >= 1 { 2 } else { 1 } {
                     out.push(PillMode {
                         k2: kt2 + kz2,
                         kt2,
-                        label: format!("TE{n}{m}{p}"),
+                        label: format!("{family}{n}{m}{p}"),
                     });
                 }
             }
