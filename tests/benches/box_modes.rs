@@ -54,8 +54,8 @@ fn peak_rss_mb() -> f64 {
         .map_or(f64::NAN, |kb| kb / 1024.0)
 }
 
-fn run_case(order: u8, per_100mm: usize) {
-    let cells = |len: f64| (len / 0.1 * per_100mm as f64).round() as usize;
+fn run_case(order: u8, per_100mm: f64) {
+    let cells = |len: f64| (len / 0.1 * per_100mm).round() as usize;
     let n = [cells(A), cells(B), cells(D)];
     let t0 = Instant::now();
     let mesh = grid_mesh(
@@ -89,7 +89,10 @@ fn run_case(order: u8, per_100mm: usize) {
         .fold(0.0, f64::max);
     let st = &set.stats;
     println!(
-        "order={order} cells/100mm={per_100mm:>2} tets={:>7} unknowns={:>7} mesh={:.2}s assembly={:.2}s ordering={:.2}s factor={:.2}s eigen={:.2}s checks={:.2}s total={:.2}s factor_nnz={:.1}M peak={:.0}MB modes={} worst_rel_err={:.2e} restarts={} solves={}",
+        "order={order} cells/100mm={per_100mm:>4} grid={}x{}x{} tets={:>7} unknowns={:>7} mesh={:.2}s assembly={:.2}s ordering={:.2}s factor={:.2}s eigen={:.2}s checks={:.2}s total={:.2}s factor_nnz={:.1}M peak={:.0}MB modes={} worst_rel_err={:.2e} restarts={} solves={}",
+        n[0],
+        n[1],
+        n[2],
         mesh.tets.len(),
         st.n_dofs,
         mesh_s,
@@ -114,7 +117,7 @@ fn main() {
         std::env::var("ANTINODE_BENCH_ORDER"),
         std::env::var("ANTINODE_BENCH_N"),
     ) {
-        run_case(order.parse().unwrap_or(1), n.parse().unwrap_or(4));
+        run_case(order.parse().unwrap_or(1), n.parse().unwrap_or(4.0));
         return;
     }
     let quick = args.iter().any(|a| a == "quick");

@@ -12,7 +12,7 @@ use antinode_solver::NedelecOrder;
 use std::f64::consts::PI;
 use std::time::Instant;
 
-/// Structured Kuhn mesh of the box [0,a]×[0,b]×[0,d] with `n[i]` cells per direction,
+/// Structured grid mesh (five tetrahedra per cell) of the box [0,a]×[0,b]×[0,d] with `n[i]` cells per direction,
 /// one region ("air").
 pub fn box_mesh(size: [f64; 3], n: [usize; 3]) -> TetMesh {
     let grid = GridLines::uniform([0.0; 3], size, n);
@@ -315,25 +315,25 @@ pub fn ghz(k2: f64) -> f64 {
 }
 
 /// A-priori discretisation tolerance for the relative eigenvalue error of a smooth mode
-/// on the structured Kuhn meshes: C_p (k h)^{2p}, the O(h^{2p}) law (Boffi, Acta
+/// on the structured five-tetrahedra grid meshes: C_p (k h)^{2p}, the O(h^{2p}) law (Boffi, Acta
 /// Numerica 19 (2010), §§ on edge-element eigenvalue convergence, from memory), with
 /// the constant measured on the cube (0,π)³ (see `tests/cube.rs`, where the observed
-/// worst constants over k² ≤ 6 were C1 = 0.0343 (order 1, n = 8, the λ = 2 group) and
-/// C2 = 8.70e-4 (order 2, n = 4); rounded up to two digits below) and a safety factor of
+/// worst constants over k² ≤ 6 were C1 = 9.875e-3 (order 1, n = 8) and C2 = 5.025e-4
+/// (order 2, n = 4); rounded up to two digits below) and a safety factor of
 /// 3 on them for other boxes and mode shapes (common practice, no source). `k` is the
 /// local wavenumber of the mode (√ε k0 in a dielectric), `h` the largest grid spacing.
-pub fn kuhn_tolerance(order: NedelecOrder, k: f64, h: f64) -> f64 {
+pub fn grid_tolerance(order: NedelecOrder, k: f64, h: f64) -> f64 {
     let (c, p) = match order {
-        NedelecOrder::One => (KUHN_C1, 2),
-        NedelecOrder::Two => (KUHN_C2, 4),
+        NedelecOrder::One => (GRID_C1, 2),
+        NedelecOrder::Two => (GRID_C2, 4),
     };
     3.0 * c * (k * h).powi(p)
 }
 
-/// Observed constant of the order-1 error law on the cube (see [`kuhn_tolerance`]).
-pub const KUHN_C1: f64 = 0.035;
-/// Observed constant of the order-2 error law on the cube (see [`kuhn_tolerance`]).
-pub const KUHN_C2: f64 = 9.0e-4;
+/// Observed constant of the order-1 error law on the cube (see [`grid_tolerance`]).
+pub const GRID_C1: f64 = 9.9e-3;
+/// Observed constant of the order-2 error law on the cube (see [`grid_tolerance`]).
+pub const GRID_C2: f64 = 5.1e-4;
 
 /// A root of `f` in `[a, b]` where f(a)·f(b) ≤ 0, by bisection to |b − a| ≤ tol
 /// (bisection halves the bracket each step, so it always converges; Press et al.,

@@ -3,7 +3,7 @@
 //! TM needing m,n ≥ 1 (Pozar, Microwave Engineering, 4th ed., §6.3).
 //!
 //! Tolerance (relative, on k0²): the a-priori law C_p (k h)^{2p} of
-//! `antinode_tests::kuhn_tolerance` (O(h^{2p}): Boffi, Acta Numerica 19 (2010); constant
+//! `antinode_tests::grid_tolerance` (O(h^{2p}): Boffi, Acta Numerica 19 (2010); constant
 //! observed on the cube (0,π)³ in `cube.rs`, safety factor 3), evaluated at the top of
 //! the window (largest k). Reference groups closer than twice the tolerance are merged
 //! (the comparison cannot tell them apart); the window is widened from the requested band
@@ -23,9 +23,9 @@ fn box_case(size_mm: [f64; 3], band_ghz: [f64; 2], order: NedelecOrder, n: [usiz
     let all = box_modes(size, 2.0 * band[1]);
     // Tolerance at the top of the band (widening below moves it by a few per cent at most;
     // re-evaluated at the final window top).
-    let mut tol = kuhn_tolerance(order, band[1].sqrt(), h);
+    let mut tol = grid_tolerance(order, band[1].sqrt(), h);
     let mut window = clear_window(&all, band, tol);
-    let tol_top = kuhn_tolerance(order, window[1].sqrt(), h);
+    let tol_top = grid_tolerance(order, window[1].sqrt(), h);
     if tol_top > tol {
         tol = tol_top;
         window = clear_window(&all, band, tol);

@@ -3,9 +3,9 @@
 //! §6.3, with a = b = d = π). Lowest values: 2 (×3), 3 (×2), 5 (×6), 6 (×6), then 8.
 //!
 //! This case also calibrates the constants of the a-priori tolerance
-//! `kuhn_tolerance` used by the other box tests: it prints the observed
+//! `grid_tolerance` used by the other box tests: it prints the observed
 //! C_p = relative error / (k h)^{2p} and asserts that it stays below the constants in
-//! `antinode_tests::KUHN_C1/C2` (so a regression of the discretisation shows up here).
+//! `antinode_tests::GRID_C1/C2` (so a regression of the discretisation shows up here).
 
 use antinode_solver::assembly::RegionMaterial;
 use antinode_solver::NedelecOrder;
@@ -68,10 +68,10 @@ fn cube_case(order: NedelecOrder, n: usize, c_bound: f64) {
 
 #[test]
 fn cube_order1() {
-    cube_case(NedelecOrder::One, 8, KUHN_C1);
+    cube_case(NedelecOrder::One, 8, GRID_C1);
 }
 
 #[test]
 fn cube_order2() {
-    cube_case(NedelecOrder::Two, 4, KUHN_C2);
+    cube_case(NedelecOrder::Two, 4, GRID_C2);
 }

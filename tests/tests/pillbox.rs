@@ -17,7 +17,7 @@
 //! Neumann eigenvalue with area at fixed shape — common practice, no source; the polygon
 //! is not similar to the circle, so a factor 2 is allowed). Bound per mode:
 //!   −tol_fe ≤ (k²_h − k²)/k² ≤ 2 δ (x/a)²/k² + tol_fe,
-//! with tol_fe the order-2 discretisation allowance C2 (k h)⁴·3 of `kuhn_tolerance`
+//! with tol_fe the order-2 discretisation allowance C2 (k h)⁴·3 of `grid_tolerance`
 //! (constant from the structured cube, so it is only indicative on these unstructured
 //! prisms — stated, not hidden). And the worst error must shrink when the mesh (and
 //! with it the wall polygon) is refined.
@@ -129,7 +129,7 @@ target = 2.45
     // immaterial.
     for (r, &c) in reference.iter().zip(&computed) {
         let rel = (c - r.k2) / r.k2;
-        let fe = kuhn_tolerance(NedelecOrder::Two, r.k2.sqrt(), h);
+        let fe = grid_tolerance(NedelecOrder::Two, r.k2.sqrt(), h);
         let upper = 2.0 * delta * r.kt2 / r.k2 + fe;
         let lower = -fe;
         println!(

@@ -27,7 +27,7 @@
 //!
 //! Roots: sign changes on a fine scan, refined by bisection (simple roots only: each
 //! (m, n, kind) gives a Sturm–Liouville problem in z with simple eigenvalues).
-//! Tolerance: `kuhn_tolerance` (order 2) at the slab wavenumber √ε k0 of the window top.
+//! Tolerance: `grid_tolerance` (order 2) at the slab wavenumber √ε k0 of the window top.
 
 use antinode_mesh::structured::{grid_mesh, GridLines};
 use antinode_solver::assembly::RegionMaterial;
@@ -124,9 +124,9 @@ fn dielectric_slab_order2() {
     let all = slab_modes(size, t, eps, 80.0);
     // The lowest 10 semi-analytic modes.
     let top = all[9].k2;
-    let mut tol = kuhn_tolerance(NedelecOrder::Two, (eps * top).sqrt(), h);
+    let mut tol = grid_tolerance(NedelecOrder::Two, (eps * top).sqrt(), h);
     let mut window = clear_window(&all, [0.5 * all[0].k2, top * (1.0 + 2.0 * tol)], tol);
-    tol = tol.max(kuhn_tolerance(
+    tol = tol.max(grid_tolerance(
         NedelecOrder::Two,
         (eps * window[1]).sqrt(),
         h,
