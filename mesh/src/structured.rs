@@ -78,7 +78,7 @@ pub fn grid_mesh(
                 // central tetrahedron, each odd one cuts off a corner tetrahedron with
                 // its three (even) neighbours along the cell edges.
                 let corners = (0..8usize).map(|m| [m & 1, (m >> 1) & 1, (m >> 2) & 1]);
-                let even = |o: &[usize; 3]| (i + j + k + o[0] + o[1] + o[2]) % 2 == 0;
+                let even = |o: &[usize; 3]| (i + j + k + o[0] + o[1] + o[2]).is_multiple_of(2);
                 let central: Vec<[usize; 3]> = corners.clone().filter(even).collect();
                 tets.push([
                     id(central[0]),
