@@ -143,3 +143,72 @@ pub fn boundary_faces(mesh: &TetMesh) -> Vec<[u32; 3]> {
     }
     out
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A non-uniform 3 × 4 × 2 grid with one cell left out, so the checks also see an
+    /// inner boundary.
+    fn holed_mesh() -> (GridLines, TetMesh) {
+        let grid = GridLines {
+            x: vec![0.0, 0.1, 0.25, 0.3],
+            y: vec![0.0, 0.05, 0.1, 0.2, 0.4],
+            z: vec![-0.1, 0.0, 0.3],
+        };
+        // The cell (1, 2, 1): x in (0.1, 0.25), y in (0.1, 0.2), z in (0, 0.3).
+        let in_hole =
+            |c: [f64; 3]| c[0] > 0.1 && c[0] < 0.25 && c[1] > 0.1 && c[1] < 0.2 && c[2] > 0.0;
+        let mesh = grid_mesh(&grid, vec![RegionInfo { name: "air".into() }], |c| {
+            (!in_hole(c)).then_some(0)
+        });
+        (grid, mesh)
+    }
+
+    #[test]
+    fn five_tetrahedra_fill_each_cell_exactly() {
+        let (grid, mesh) = holed_mesh();
+        let cells = 3 * 4 * 2 - 1;
+        assert_eq!(mesh.tets.len(), 5 * cells);
+        // Central tetrahedron: 1/3 of the cell volume, corner ones 1/6 each (the cell
+        // minus four corners of 1/6: 1 − 4/6 = 1/3).
+        for (c, five) in mesh.tets.chunks(5).enumerate() {
+            let v: Vec<f64> = (0..5)
+                .map(|t| mesh.signed_volume(5 * c + t).abs())
+                .collect();
+            let cell = 3.0 * v[0];
+            assert!(cell > 0.0, "degenerate central tetrahedron {:?}", five[0]);
+            for &vt in &v[1..] {
+                assert!((6.0 * vt - cell).abs() <= 1e-12 * cell, "{v:?}");
+            }
+        }
+        let total: f64 = (0..mesh.tets.len())
+            .map(|t| mesh.signed_volume(t).abs())
+            .sum();
+        let volume = |l: &[f64]| l[l.len() - 1] - l[0];
+        let hole_volume = 0.15 * 0.1 * 0.3;
+        let exact = volume(&grid.x) * volume(&grid.y) * volume(&grid.z) - hole_volume;
+        assert!((total - exact).abs() <= 1e-12 * exact, "{total} vs {exact}");
+    }
+
+    #[test]
+    fn conforming_with_closed_boundary() {
+        let (_, mesh) = holed_mesh();
+        // Each face is used by one or two tetrahedra; a non-conforming split would leave
+        // extra one-sided faces inside, so the boundary must be exactly two triangles
+        // per exposed cell face: outer surface 2·(3·4 + 3·2 + 4·2) quads; the hole lies
+        // in the top layer, so it removes one top quad and exposes its other five faces.
+        let mut faces: HashMap<[u32; 3], usize> = HashMap::new();
+        for t in &mesh.tets {
+            for f in [[0, 1, 2], [0, 1, 3], [0, 2, 3], [1, 2, 3]] {
+                let mut key = f.map(|i| t[i]);
+                key.sort_unstable();
+                *faces.entry(key).or_default() += 1;
+            }
+        }
+        assert!(faces.values().all(|&n| n <= 2));
+        let quads = 2 * (3 * 4 + 3 * 2 + 4 * 2) - 1 + 5;
+        assert_eq!(mesh.boundary.len(), 2 * quads);
+        assert_eq!(faces.values().filter(|&&n| n == 1).count(), 2 * quads);
+    }
+}
