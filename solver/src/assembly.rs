@@ -111,10 +111,40 @@ pub fn assemble(
     dofs: &DofMap,
     materials: &[RegionMaterial],
 ) -> SystemMatrices {
+    assemble_alongside(mesh, topo, dofs, materials, |_, _| ()).0
+}
+
+/// [`assemble`], running `alongside` on the sparsity pattern (CSR row pointers, sorted
+/// column indices; the pattern all three matrices share) while the values are computed:
+/// the fill-reducing ordering needs only the pattern and runs on one core, so it
+/// overlaps the parallel element loop instead of following it.
+pub fn assemble_alongside<R: Send>(
+    mesh: &TetMesh,
+    topo: &Topology,
+    dofs: &DofMap,
+    materials: &[RegionMaterial],
+    alongside: impl FnOnce(&[u32], &[u32]) -> R + Send,
+) -> (SystemMatrices, R) {
+    let (indptr, indices) = pattern(dofs);
+    let (r, matrices) = rayon::join(
+        || alongside(&indptr, &indices),
+        || fill(mesh, topo, dofs, materials, &indptr, &indices),
+    );
+    (matrices, r)
+}
+
+/// The values of K, M′ and M″ on the given pattern.
+fn fill(
+    mesh: &TetMesh,
+    topo: &Topology,
+    dofs: &DofMap,
+    materials: &[RegionMaterial],
+    indptr: &[u32],
+    indices: &[u32],
+) -> SystemMatrices {
     let element = NedelecTet::new(dofs.order);
     let nl = element.len();
     let n = dofs.n_dofs;
-    let (indptr, indices) = pattern(dofs);
     let nnz = indices.len();
     let lossy = materials.iter().any(|m| m.eps_imag != 0.0);
     let mut k = vec![0.0; nnz];
@@ -141,10 +171,10 @@ pub fn assemble(
                 element.matrices(&geo, ke, me);
             });
         // Split value arrays by row ranges so each part owns its rows' values.
-        let mut k_parts = split_by_rows(&mut k, &indptr, &row_bounds);
-        let mut mr_parts = split_by_rows(&mut mr, &indptr, &row_bounds);
+        let mut k_parts = split_by_rows(&mut k, indptr, &row_bounds);
+        let mut mr_parts = split_by_rows(&mut mr, indptr, &row_bounds);
         let mut mi_parts: Vec<Option<&mut [f64]>> = if lossy {
-            split_by_rows(&mut mi, &indptr, &row_bounds)
+            split_by_rows(&mut mi, indptr, &row_bounds)
                 .into_iter()
                 .map(Some)
                 .collect()
@@ -153,8 +183,6 @@ pub fn assemble(
         };
         let buf_k = &buf_k;
         let buf_m = &buf_m;
-        let indptr = &indptr;
-        let indices = &indices;
         k_parts
             .par_iter_mut()
             .zip(mr_parts.par_iter_mut())
@@ -198,7 +226,7 @@ pub fn assemble(
                 }
             });
     }
-    let make = |vals: Vec<f64>| SparseMatrix::new((n, n), indptr.clone(), indices.clone(), vals);
+    let make = |vals: Vec<f64>| SparseMatrix::new((n, n), indptr.to_vec(), indices.to_vec(), vals);
     SystemMatrices {
         stiffness: make(k),
         mass_real: make(mr),

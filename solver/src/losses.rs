@@ -61,6 +61,15 @@ fn gather(td: &[u32], re: &[f64], im: &[f64], xr: &mut [f64], xi: &mut [f64]) {
     }
 }
 
+/// The imaginary part's quadratic form; zero without computing it for real modes.
+fn quad_if(m: &[f64], n: usize, im: &[f64], xi: &[f64]) -> f64 {
+    if im.is_empty() {
+        0.0
+    } else {
+        quad_form(m, n, xi)
+    }
+}
+
 /// Integrals of several modes (each given by real and imaginary coefficient vectors
 /// over the free unknowns). One pass over the mesh for all modes.
 pub fn mode_integrals(
@@ -106,7 +115,7 @@ pub fn mode_integrals(
                 for (mi, &(re, im)) in modes.iter().enumerate() {
                     let (xr, xi) = xl.split_at_mut(nl);
                     gather(td, re, im, xr, xi);
-                    acc[mi].region_e2[region] += quad_form(&mm, nl, xr) + quad_form(&mm, nl, xi);
+                    acc[mi].region_e2[region] += quad_form(&mm, nl, xr) + quad_if(&mm, nl, im, xi);
                 }
                 for &lf in &wall_faces {
                     let (normal, area) = face_normal_area(&x, lf);
@@ -114,7 +123,7 @@ pub fn mode_integrals(
                     for (mi, &(re, im)) in modes.iter().enumerate() {
                         let (xr, xi) = xl.split_at_mut(nl);
                         gather(td, re, im, xr, xi);
-                        acc[mi].wall_curl2 += quad_form(&kc, nl, xr) + quad_form(&kc, nl, xi);
+                        acc[mi].wall_curl2 += quad_form(&kc, nl, xr) + quad_if(&kc, nl, im, xi);
                     }
                 }
                 (acc, kc, mm, xl)

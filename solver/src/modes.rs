@@ -24,7 +24,9 @@
 //!   zero for a true resonance and O(1) for a gradient (spurious, zero-frequency) field.
 //!   Fields with a figure above [`SPURIOUS_DIVERGENCE`] are dropped and counted.
 
-use crate::assembly::{assemble, spmm, spmv, RegionMaterial, SparseMatrix, SystemMatrices};
+use crate::assembly::{
+    assemble, assemble_alongside, spmm, spmv, RegionMaterial, SparseMatrix, SystemMatrices,
+};
 use crate::dofmap::DofMap;
 use crate::eigen::{
     self, EigenOptions, EigenProgress, KrylovOperator, KrylovScalar, RitzPairs, Wanted,
@@ -33,11 +35,12 @@ use crate::element::NedelecOrder;
 use crate::error::SolverError;
 use crate::factor::{FactorKind, SymmetricFactor};
 use crate::losses::{mode_integrals, mode_q, ModeIntegrals, ModeQ, PortPower};
-use crate::ordering::{doubled, nested_dissection};
+use crate::ordering::{doubled, nested_dissection_of_pattern};
 use crate::port::{port_constraint, PortConstraint, PortFrame, Reduction};
 use crate::topology::Topology;
 use antinode_mesh::{BoundaryTag, TetMesh};
 use faer::{c64, Mat, MatMut, MatRef, Par};
+use rayon::prelude::*;
 use std::time::Instant;
 
 /// Speed of light in vacuum, m/s (exact, SI).
@@ -179,8 +182,10 @@ pub struct SolveStats {
     pub complex: bool,
     pub matrix_nnz: usize,
     pub factor_nnz: usize,
+    /// Assembly (topology, unknown numbering, matrices, port reduction), wall time.
     pub assembly_s: f64,
-    /// Fill-reducing ordering (nested dissection) of the shifted matrix.
+    /// Fill-reducing ordering (nested dissection) of the shifted matrix. Without ports it
+    /// runs on one core during assembly, so it overlaps `assembly_s`.
     pub ordering_s: f64,
     pub factor_s: f64,
     pub eigen_s: f64,
@@ -440,7 +445,20 @@ pub fn solve_modes(
     progress(Stage::Assembly {
         n_dofs: dofs.n_dofs,
     });
-    let matrices = assemble(mesh, &topology, &dofs, materials);
+    // Without ports the factorised matrix has the assembled pattern, so the ordering
+    // runs alongside the element loop; port constraints change the pattern, and then it
+    // follows the reduction.
+    let timed_ordering = |indptr: &[u32], indices: &[u32]| {
+        let t = Instant::now();
+        let ordering = nested_dissection_of_pattern(indptr, indices);
+        (ordering, t.elapsed().as_secs_f64())
+    };
+    let (matrices, early_ordering) = if n_ports == 0 {
+        let (m, o) = assemble_alongside(mesh, &topology, &dofs, materials, timed_ordering);
+        (m, Some(o))
+    } else {
+        (assemble(mesh, &topology, &dofs, materials), None)
+    };
     let constraint =
         (n_ports > 0).then(|| port_constraint(mesh, &topology, &dofs, &settings.ports));
     let reduction = constraint.as_ref().map(|c| Reduction::new(dofs.n_dofs, c));
@@ -491,9 +509,12 @@ pub fn solve_modes(
     // (over subtrees) and the dense products (over rows).
     faer::set_global_parallelism(Par::Seq);
     progress(Stage::Factorization { n_dofs: n, nnz });
-    let t_order = Instant::now();
-    let ordering = nested_dissection(&sys.stiffness);
-    let ordering_s = t_order.elapsed().as_secs_f64();
+    let (ordering, ordering_s) = early_ordering.unwrap_or_else(|| {
+        timed_ordering(
+            sys.stiffness.indptr().raw_storage(),
+            sys.stiffness.indices(),
+        )
+    });
     let k_norm = row_sum_norm(&sys.stiffness);
     let m_norm = row_sum_norm(&sys.mass_real) + sys.mass_imag.as_ref().map_or(0.0, row_sum_norm);
 
@@ -646,101 +667,104 @@ pub fn solve_modes(
 
     progress(Stage::Checks);
     let t_checks = Instant::now();
-    let mut kept = Vec::new();
-    let mut spurious = 0;
     let nf = dofs.n_dofs;
-    let mut t = vec![0.0; nf];
-    for mut m in raw {
-        // β refinement per mode (first-order perturbation, iterated).
-        let mut amp: Vec<c64> = (0..n_ports)
-            .map(|p| {
-                c64::new(
-                    m.re[port_base + p],
-                    m.im.get(port_base + p).copied().unwrap_or(0.0),
-                )
-            })
-            .collect();
-        let (mut xr, mut xi) = match &reduction {
-            Some(r) => (
-                r.expand(&m.re),
-                if m.im.is_empty() {
-                    Vec::new()
-                } else {
-                    r.expand(&m.im)
-                },
-            ),
-            None => (std::mem::take(&mut m.re), std::mem::take(&mut m.im)),
-        };
-        if n_ports > 0 {
-            let xmx = bilinear_mass(&matrices, &xr, &xi);
-            let lambda0 = m.lambda;
-            let mut lambda = lambda0;
-            for _ in 0..6 {
-                let k = lambda.sqrt().re;
-                let mut d = c64::new(0.0, 0.0);
-                for (p, f) in settings.ports.iter().enumerate() {
-                    let dbeta = f.beta(k) - f.beta(k_target);
-                    d += c64::new(0.0, 1.0) * dbeta * port_norm[p] * amp[p] * amp[p];
+    // Modes are checked independently, one per thread.
+    let checked: Vec<Option<_>> = raw
+        .into_par_iter()
+        .map(|mut m| {
+            let mut t = vec![0.0; nf];
+            // β refinement per mode (first-order perturbation, iterated).
+            let mut amp: Vec<c64> = (0..n_ports)
+                .map(|p| {
+                    c64::new(
+                        m.re[port_base + p],
+                        m.im.get(port_base + p).copied().unwrap_or(0.0),
+                    )
+                })
+                .collect();
+            let (mut xr, mut xi) = match &reduction {
+                Some(r) => (
+                    r.expand(&m.re),
+                    if m.im.is_empty() {
+                        Vec::new()
+                    } else {
+                        r.expand(&m.im)
+                    },
+                ),
+                None => (std::mem::take(&mut m.re), std::mem::take(&mut m.im)),
+            };
+            if n_ports > 0 {
+                let xmx = bilinear_mass(&matrices, &xr, &xi);
+                let lambda0 = m.lambda;
+                let mut lambda = lambda0;
+                for _ in 0..6 {
+                    let k = lambda.sqrt().re;
+                    let mut d = c64::new(0.0, 0.0);
+                    for (p, f) in settings.ports.iter().enumerate() {
+                        let dbeta = f.beta(k) - f.beta(k_target);
+                        d += c64::new(0.0, 1.0) * dbeta * port_norm[p] * amp[p] * amp[p];
+                    }
+                    lambda = lambda0 + d / xmx;
                 }
-                lambda = lambda0 + d / xmx;
+                m.lambda = lambda;
             }
-            m.lambda = lambda;
-        }
-        // Divergence: Gᵀ M x with M = M′ − jM″ on the full unknowns.
-        let (yr, yi) = mass_apply(&matrices, &xr, &xi, &mut t);
-        let div = (dofs.gradient_residual(&topology, &yr).powi(2)
-            + if yi.is_empty() {
-                0.0
+            // Divergence: Gᵀ M x with M = M′ − jM″ on the full unknowns.
+            let (yr, yi) = mass_apply(&matrices, &xr, &xi, &mut t);
+            let div = (dofs.gradient_residual(&topology, &yr).powi(2)
+                + if yi.is_empty() {
+                    0.0
+                } else {
+                    dofs.gradient_residual(&topology, &yi).powi(2)
+                })
+            .sqrt()
+                / (norm(&yr).powi(2) + norm(&yi).powi(2)).sqrt();
+            if div > SPURIOUS_DIVERGENCE || m.lambda.re <= 0.0 {
+                return None;
+            }
+            // Normalise ∫ε′|E|² = 1 and make the largest coefficient real.
+            let mut e2 = quad(&matrices.mass_real, &xr, &mut t);
+            if !xi.is_empty() {
+                e2 += quad(&matrices.mass_real, &xi, &mut t);
+            }
+            let scale = 1.0 / e2.sqrt();
+            let (imax, _) = (0..nf)
+                .map(|i| (i, xr[i].hypot(xi.get(i).copied().unwrap_or(0.0))))
+                .fold((0, -1.0), |a, b| if b.1 > a.1 { b } else { a });
+            let phase = if xi.is_empty() {
+                c64::new(scale.copysign(xr[imax]), 0.0)
             } else {
-                dofs.gradient_residual(&topology, &yi).powi(2)
-            })
-        .sqrt()
-            / (norm(&yr).powi(2) + norm(&yi).powi(2)).sqrt();
-        if div > SPURIOUS_DIVERGENCE || m.lambda.re <= 0.0 {
-            spurious += 1;
-            continue;
-        }
-        // Normalise ∫ε′|E|² = 1 and make the largest coefficient real.
-        let mut e2 = quad(&matrices.mass_real, &xr, &mut t);
-        if !xi.is_empty() {
-            e2 += quad(&matrices.mass_real, &xi, &mut t);
-        }
-        let scale = 1.0 / e2.sqrt();
-        let (imax, _) = (0..nf)
-            .map(|i| (i, xr[i].hypot(xi.get(i).copied().unwrap_or(0.0))))
-            .fold((0, -1.0), |a, b| if b.1 > a.1 { b } else { a });
-        let phase = if xi.is_empty() {
-            c64::new(scale.copysign(xr[imax]), 0.0)
-        } else {
-            let z = c64::new(xr[imax], xi[imax]);
-            z.conj() / z.norm() * scale
-        };
-        if !xi.is_empty() {
-            for i in 0..nf {
-                let z = c64::new(xr[i], xi[i]) * phase;
-                xr[i] = z.re;
-                xi[i] = z.im;
+                let z = c64::new(xr[imax], xi[imax]);
+                z.conj() / z.norm() * scale
+            };
+            if !xi.is_empty() {
+                for i in 0..nf {
+                    let z = c64::new(xr[i], xi[i]) * phase;
+                    xr[i] = z.re;
+                    xi[i] = z.im;
+                }
+                for a in amp.iter_mut() {
+                    *a *= phase;
+                }
+            } else {
+                for v in xr.iter_mut() {
+                    *v *= phase.re;
+                }
+                for a in amp.iter_mut() {
+                    *a *= phase.re;
+                }
             }
-            for a in amp.iter_mut() {
-                *a *= phase;
-            }
-        } else {
-            for v in xr.iter_mut() {
-                *v *= phase.re;
-            }
-            for a in amp.iter_mut() {
-                *a *= phase.re;
-            }
-        }
-        let k = m.lambda.sqrt();
-        let f = k * (C0 / (2.0 * std::f64::consts::PI));
-        let q_eigen = if f.im > 0.0 {
-            f.re / (2.0 * f.im)
-        } else {
-            f64::INFINITY
-        };
-        kept.push((m.lambda, f, q_eigen, m.residual, div, xr, xi, amp));
-    }
+            let k = m.lambda.sqrt();
+            let f = k * (C0 / (2.0 * std::f64::consts::PI));
+            let q_eigen = if f.im > 0.0 {
+                f.re / (2.0 * f.im)
+            } else {
+                f64::INFINITY
+            };
+            Some((m.lambda, f, q_eigen, m.residual, div, xr, xi, amp))
+        })
+        .collect();
+    let spurious = checked.iter().filter(|c| c.is_none()).count();
+    let kept: Vec<_> = checked.into_iter().flatten().collect();
     let inputs: Vec<(&[f64], &[f64])> = kept
         .iter()
         .map(|k| (k.5.as_slice(), k.6.as_slice()))
