@@ -7,7 +7,8 @@
 //! Each case runs in a child process so that its peak resident memory (VmHWM) is its
 //! own. Run: `cargo bench -p antinode-tests --bench box_modes` (add `-- quick` for the
 //! small cases only, `-- yardstick` to also run the general-purpose Python path from
-//! `shared/yardstick/` when scikit-fem and scipy are installed).
+//! `shared/yardstick/` when scikit-fem and scipy are installed). One case alone:
+//! `ANTINODE_BENCH_ORDER=2 ANTINODE_BENCH_GRID=18,18,13` on the bench executable.
 
 use antinode_mesh::structured::{grid_mesh, GridLines};
 use antinode_mesh::RegionInfo;
@@ -54,9 +55,7 @@ fn peak_rss_mb() -> f64 {
         .map_or(f64::NAN, |kb| kb / 1024.0)
 }
 
-fn run_case(order: u8, per_100mm: f64) {
-    let cells = |len: f64| (len / 0.1 * per_100mm).round() as usize;
-    let n = [cells(A), cells(B), cells(D)];
+fn run_case(order: u8, n: [usize; 3]) {
     let t0 = Instant::now();
     let mesh = grid_mesh(
         &GridLines::uniform([0.0; 3], [A, B, D], n),
@@ -71,28 +70,30 @@ fn run_case(order: u8, per_100mm: f64) {
     let set = match solve_modes(&mesh, &[RegionMaterial::VACUUM], &s, &mut |_| {}) {
         Ok(set) => set,
         Err(e) => {
-            println!("order={order} cells/100mm={per_100mm} failed: {e}");
+            println!("order={order} grid={}x{}x{} failed: {e}", n[0], n[1], n[2]);
             return;
         }
     };
     let total = t1.elapsed().as_secs_f64();
     let reference = analytic(4.0e9);
-    let worst = set
+    // Worst relative error and the analytic frequency of that mode.
+    let (worst, worst_at) = set
         .modes
         .iter()
         .map(|m| {
             reference
                 .iter()
-                .map(|r| (r - m.frequency_hz).abs() / r)
-                .fold(f64::INFINITY, f64::min)
+                .map(|&r| ((r - m.frequency_hz).abs() / r, r))
+                .fold((f64::INFINITY, 0.0), |a, b| if b.0 < a.0 { b } else { a })
         })
-        .fold(0.0, f64::max);
+        .fold((0.0, 0.0), |a, b| if b.0 > a.0 { b } else { a });
     let st = &set.stats;
     println!(
-        "order={order} cells/100mm={per_100mm:>4} grid={}x{}x{} tets={:>7} unknowns={:>7} mesh={:.2}s assembly={:.2}s ordering={:.2}s factor={:.2}s eigen={:.2}s checks={:.2}s total={:.2}s factor_nnz={:.1}M peak={:.0}MB modes={} worst_rel_err={:.2e} restarts={} solves={}",
+        "order={order} grid={}x{}x{} h={:.1}mm tets={:>7} unknowns={:>7} mesh={:.2}s assembly={:.2}s ordering={:.2}s factor={:.2}s eigen={:.2}s checks={:.2}s total={:.2}s factor_nnz={:.1}M peak={:.0}MB modes={} worst_rel_err={:.2e} worst_at={:.4}GHz restarts={} solves={}",
         n[0],
         n[1],
         n[2],
+        1e3 * (A / n[0] as f64).max(B / n[1] as f64).max(D / n[2] as f64),
         mesh.tets.len(),
         st.n_dofs,
         mesh_s,
@@ -106,6 +107,7 @@ fn run_case(order: u8, per_100mm: f64) {
         peak_rss_mb(),
         set.modes.len(),
         worst,
+        worst_at / 1e9,
         st.restarts,
         st.applications
     );
@@ -113,29 +115,46 @@ fn run_case(order: u8, per_100mm: f64) {
 
 fn main() {
     let args: Vec<String> = std::env::args().collect();
-    if let (Ok(order), Ok(n)) = (
+    if let (Ok(order), Ok(grid)) = (
         std::env::var("ANTINODE_BENCH_ORDER"),
-        std::env::var("ANTINODE_BENCH_N"),
+        std::env::var("ANTINODE_BENCH_GRID"),
     ) {
-        run_case(order.parse().unwrap_or(1), n.parse().unwrap_or(4.0));
+        let n: Vec<usize> = grid.split(',').filter_map(|x| x.parse().ok()).collect();
+        match (order.parse(), n.as_slice()) {
+            (Ok(order), &[nx, ny, nz]) => run_case(order, [nx, ny, nz]),
+            _ => println!("ANTINODE_BENCH_ORDER=1|2 and ANTINODE_BENCH_GRID=NX,NY,NZ expected"),
+        }
         return;
     }
     let quick = args.iter().any(|a| a == "quick");
-    let cases: Vec<(u8, usize)> = if quick {
-        vec![(1, 4), (1, 8), (2, 2), (2, 4)]
+    // Grids of cubic cells from 25 mm down, plus 18 × 18 × 13 (16.7 mm across, 15.4 mm
+    // in z): near 2.45 GHz the modes with three half-waves over the 200 mm height have the
+    // shortest wavelength along an axis and set the worst error at 18 × 18 × 12, so that
+    // grid refined in z alone is the coarsest of the series whose worst error is below
+    // 1e-4 (the order-2 target), and 19 × 19 × 13 the next.
+    let cases: Vec<(u8, [usize; 3])> = if quick {
+        vec![
+            (1, [12, 12, 8]),
+            (1, [24, 24, 16]),
+            (2, [6, 6, 4]),
+            (2, [12, 12, 8]),
+        ]
     } else {
         vec![
-            (1, 4),
-            (1, 8),
-            (1, 12),
-            (1, 16),
-            (2, 2),
-            (2, 3),
-            (2, 4),
-            (2, 5),
-            (2, 6),
-            (2, 7),
-            (2, 8),
+            (1, [12, 12, 8]),
+            (1, [24, 24, 16]),
+            (1, [36, 36, 24]),
+            (1, [51, 51, 34]),
+            (2, [6, 6, 4]),
+            (2, [9, 9, 6]),
+            (2, [12, 12, 8]),
+            (2, [15, 15, 10]),
+            (2, [18, 18, 12]),
+            (2, [18, 18, 13]),
+            (2, [19, 19, 13]),
+            (2, [21, 21, 14]),
+            (2, [24, 24, 16]),
+            (2, [27, 27, 18]),
         ]
     };
     let exe = std::env::current_exe().expect("own path");
@@ -144,13 +163,14 @@ fn main() {
         rayon_threads()
     );
     for (order, n) in cases {
+        let grid = format!("{},{},{}", n[0], n[1], n[2]);
         let out = Command::new(&exe)
             .env("ANTINODE_BENCH_ORDER", order.to_string())
-            .env("ANTINODE_BENCH_N", n.to_string())
+            .env("ANTINODE_BENCH_GRID", &grid)
             .output();
         match out {
             Ok(o) => print!("{}", String::from_utf8_lossy(&o.stdout)),
-            Err(e) => println!("order={order} cells/100mm={n}: could not run: {e}"),
+            Err(e) => println!("order={order} grid={grid}: could not run: {e}"),
         }
     }
     if args.iter().any(|a| a == "yardstick") {
