@@ -147,3 +147,58 @@ pub fn doubled(forward: &[u32]) -> (Vec<u32>, Vec<u32>) {
     }
     (fwd, inv)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// CSR pattern of the 7-point stencil on an m × m × m grid (with the diagonal).
+    fn grid_pattern(m: usize) -> (Vec<u32>, Vec<u32>) {
+        let id = |i: usize, j: usize, k: usize| (i + m * (j + m * k)) as u32;
+        let mut indptr = vec![0u32];
+        let mut indices = Vec::new();
+        for k in 0..m {
+            for j in 0..m {
+                for i in 0..m {
+                    let mut row = vec![id(i, j, k)];
+                    for (d, c) in [(0, i), (1, j), (2, k)] {
+                        let mut at = [i, j, k];
+                        if c > 0 {
+                            at[d] = c - 1;
+                            row.push(id(at[0], at[1], at[2]));
+                        }
+                        if c + 1 < m {
+                            at[d] = c + 1;
+                            row.push(id(at[0], at[1], at[2]));
+                        }
+                    }
+                    row.sort_unstable();
+                    indices.extend(row);
+                    indptr.push(indices.len() as u32);
+                }
+            }
+        }
+        (indptr, indices)
+    }
+
+    #[test]
+    fn ordering_is_a_permutation_and_reproducible_across_threads() {
+        let (indptr, indices) = grid_pattern(24);
+        let n = indptr.len() - 1;
+        let (fwd, inv) = nested_dissection_of_pattern(&indptr, &indices).expect("ordering");
+        let mut seen = vec![false; n];
+        for (k, &v) in fwd.iter().enumerate() {
+            assert!(!seen[v as usize], "unknown {v} ordered twice");
+            seen[v as usize] = true;
+            assert_eq!(inv[v as usize] as usize, k);
+        }
+        // Two calls at once must give the same result as one alone: METIS's random state
+        // is process-wide, and the lock keeps the calls apart.
+        let (a, b) = rayon::join(
+            || nested_dissection_of_pattern(&indptr, &indices),
+            || nested_dissection_of_pattern(&indptr, &indices),
+        );
+        assert_eq!(a.expect("ordering").0, fwd);
+        assert_eq!(b.expect("ordering").0, fwd);
+    }
+}
