@@ -8,6 +8,7 @@
 
 use crate::assembly::{spmv, SparseMatrix};
 use crate::error::SolverError;
+use crate::tall_skinny::{column, column_mut};
 use crate::triangular::{self, LbltFactor, TreeSchedule};
 use faer::dyn_stack::{MemBuffer, MemStack};
 use faer::linalg::cholesky::ldlt::factor::LdltRegularization;
@@ -296,22 +297,9 @@ impl SymmetricFactor {
     }
 }
 
-fn column(x: faer::MatRef<'_, f64>, j: usize) -> &[f64] {
-    x.col(j)
-        .try_as_col_major()
-        .expect("owned matrices have contiguous columns")
-        .as_slice()
-}
-
-fn column_mut(x: MatMut<'_, f64>, j: usize) -> &mut [f64] {
-    x.col_mut(j)
-        .try_as_col_major_mut()
-        .expect("owned matrices have contiguous columns")
-        .as_slice_mut()
-}
-
 /// Relative residual above which a solve is refined. The eigen iteration converges to a
-/// relative tolerance of 1e-10; solves two orders more accurate do not limit it.
+/// relative tolerance of 1e-8 (`EigenOptions::default`); solves two orders more accurate
+/// do not limit it.
 pub const REFINE_ABOVE: f64 = 1e-10;
 
 #[cfg(test)]

@@ -36,6 +36,7 @@ use crate::error::SolverError;
 use crate::factor::{FactorKind, SymmetricFactor};
 use crate::losses::{mode_integrals, mode_q, ModeIntegrals, ModeQ, PortPower};
 use crate::ordering::{doubled, nested_dissection_of_pattern};
+use crate::tall_skinny::column;
 use crate::port::{port_constraint, PortConstraint, PortFrame, Reduction};
 use crate::topology::Topology;
 use antinode_mesh::{BoundaryTag, TetMesh};
@@ -221,13 +222,6 @@ struct RealShiftInvert<'a> {
     factor: SymmetricFactor,
     mass: &'a SparseMatrix,
     refine: usize,
-}
-
-fn col(x: MatRef<'_, f64>, j: usize) -> &[f64] {
-    x.col(j)
-        .try_as_col_major()
-        .expect("contiguous column")
-        .as_slice()
 }
 
 impl KrylovOperator<f64> for RealShiftInvert<'_> {
@@ -523,7 +517,7 @@ pub fn solve_modes(
         let a = combine(&[(1.0, &sys.stiffness), (-sigma, &sys.mass_real)]);
         let solved = factor_and_iterate(
             a,
-            ordering.clone(),
+            ordering,
             t1,
             settings,
             wanted,
@@ -544,7 +538,7 @@ pub fn solve_modes(
             .enumerate()
             .map(|(j, &theta)| {
                 let lambda = sigma + 1.0 / theta;
-                let x = col(ritz.vectors.as_ref(), j);
+                let x = column(ritz.vectors.as_ref(), j);
                 spmv(&sys.stiffness, x, &mut kx);
                 spmv(&sys.mass_real, x, &mut mx);
                 let r = kx

@@ -62,6 +62,23 @@ pub fn times<T: ComplexField>(a: MatRef<'_, T>, s: MatRef<'_, T>) -> Mat<T> {
     out
 }
 
+/// Column j of a column-major block as a slice (blocks the solver allocates are
+/// contiguous per column; a strided view is a caller error).
+pub fn column<T>(x: MatRef<'_, T>, j: usize) -> &[T] {
+    x.col(j)
+        .try_as_col_major()
+        .expect("column-major block with contiguous columns")
+        .as_slice()
+}
+
+/// Mutable [`column`].
+pub fn column_mut<T>(x: MatMut<'_, T>, j: usize) -> &mut [T] {
+    x.col_mut(j)
+        .try_as_col_major_mut()
+        .expect("column-major block with contiguous columns")
+        .as_slice_mut()
+}
+
 /// Run `f(rows, W[rows, ..])` for each row range, in parallel.
 fn split_rows<T: ComplexField>(
     w: MatMut<'_, T>,
