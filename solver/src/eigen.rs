@@ -395,10 +395,10 @@ impl<T: KrylovScalar> Decomposition<T> {
                 T::zero_impl()
             }
         });
-        w = times(w.as_ref(), d.as_ref());
-        mw = mw.map(|m| times(m.as_ref(), d.as_ref()));
+        // The Gram matrix of W D, without forming W D: D is folded into the first Z.
+        let mut pending_scale = Some(d);
         let mut g = Mat::from_fn(b, b, |i, j| g0[(i, j)].scaled(1.0 / (size[i] * size[j])));
-        // W_original = W_scaled · diag(size) = Q R.
+        // W = (W D) diag(size) = Q R.
         let mut r = Mat::<T>::from_fn(b, b, |i, j| {
             if i == j {
                 one::<T>().scaled(size[j])
@@ -429,6 +429,10 @@ impl<T: KrylovScalar> Decomposition<T> {
                     .conjugate()
                     .scaled(lam[keep[i]].sqrt())
             });
+            let z = match pending_scale.take() {
+                Some(d) => &d * &z,
+                None => z,
+            };
             w = times(w.as_ref(), z.as_ref());
             mw = mw.map(|m| times(m.as_ref(), z.as_ref()));
             r = &zi * &r;
@@ -436,6 +440,11 @@ impl<T: KrylovScalar> Decomposition<T> {
             if keep.is_empty() {
                 break;
             }
+        }
+        // The decomposition failed before the first Z: apply D alone, so that Q R = W.
+        if let Some(d) = pending_scale {
+            w = times(w.as_ref(), d.as_ref());
+            mw = mw.map(|m| times(m.as_ref(), d.as_ref()));
         }
         Orthonormal {
             q: w,

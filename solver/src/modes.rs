@@ -36,8 +36,8 @@ use crate::error::SolverError;
 use crate::factor::{FactorKind, SymmetricFactor};
 use crate::losses::{mode_integrals, mode_q, ModeIntegrals, ModeQ, PortPower};
 use crate::ordering::{doubled, nested_dissection_of_pattern};
-use crate::tall_skinny::column;
 use crate::port::{port_constraint, PortConstraint, PortFrame, Reduction};
+use crate::tall_skinny::column;
 use crate::topology::Topology;
 use antinode_mesh::{BoundaryTag, TetMesh};
 use faer::{c64, Mat, MatMut, MatRef, Par};
@@ -340,19 +340,17 @@ impl KrylovOperator<c64> for ComplexShiftInvert<'_> {
         let xi = Mat::<f64>::from_fn(n, k, |i, j| x[(i, j)].im);
         // b = (M′ − jM″)(xr + j xi): br = M′xr + M″xi, bi = M′xi − M″xr; rhs [br; −bi].
         let mut rhs = Mat::<f64>::zeros(2 * n, k);
-        spmm(self.m_re, xr.as_ref(), rhs.as_mut().get_mut(..n, ..));
-        spmm(self.m_re, xi.as_ref(), rhs.as_mut().get_mut(n.., ..));
+        let (mut top, mut bottom) = rhs.as_mut().split_at_row_mut(n);
+        spmm(self.m_re, xr.as_ref(), top.as_mut());
+        spmm(self.m_re, xi.as_ref(), bottom.as_mut());
+        bottom *= faer::Scale(-1.0);
         if let Some(mi) = self.m_im {
             let mut t = Mat::<f64>::zeros(n, k);
             spmm(mi, xi.as_ref(), t.as_mut());
-            let top = rhs.as_ref().get(..n, ..) + &t;
-            rhs.as_mut().get_mut(..n, ..).copy_from(&top);
+            top += &t;
             spmm(mi, xr.as_ref(), t.as_mut());
-            let bottom = rhs.as_ref().get(n.., ..) - &t;
-            rhs.as_mut().get_mut(n.., ..).copy_from(&bottom);
+            bottom += &t;
         }
-        let bottom = rhs.as_ref().get(n.., ..) * faer::Scale(-1.0);
-        rhs.as_mut().get_mut(n.., ..).copy_from(&bottom);
         self.factor
             .solve_refined(&self.big, rhs.as_mut(), self.refine);
         for j in 0..k {
