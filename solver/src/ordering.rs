@@ -72,14 +72,10 @@ pub fn nested_dissection_of_pattern(
         xadj.push(adjncy.len() as idx_t);
     }
     // Vertex weights: the number of unknowns each graph vertex stands for.
-    let graph = Graph {
-        xadj,
-        adjncy,
-        vwgt: (0..ng)
-            .map(|g| (group_start[g + 1] - group_start[g]) as idx_t)
-            .collect(),
-    };
-    let perm = graph.node_nd()?;
+    let vwgt: Vec<idx_t> = (0..ng)
+        .map(|g| (group_start[g + 1] - group_start[g]) as idx_t)
+        .collect();
+    let perm = node_nd(xadj, adjncy, vwgt)?;
     // METIS: row i of the permuted matrix is row perm[i] of the original.
     let forward: Vec<u32> = perm
         .iter()
@@ -92,48 +88,40 @@ pub fn nested_dissection_of_pattern(
     Some((forward, inverse))
 }
 
-/// An undirected graph in METIS's CSR form, with vertex weights.
-struct Graph {
-    xadj: Vec<idx_t>,
-    adjncy: Vec<idx_t>,
-    vwgt: Vec<idx_t>,
-}
-
-impl Graph {
-    fn len(&self) -> usize {
-        self.vwgt.len()
+/// METIS nested dissection of an undirected graph in its CSR form (xadj, adjncy) with
+/// vertex weights: the vertices in elimination order.
+fn node_nd(
+    mut xadj: Vec<idx_t>,
+    mut adjncy: Vec<idx_t>,
+    mut vwgt: Vec<idx_t>,
+) -> Option<Vec<idx_t>> {
+    let n = vwgt.len();
+    if n == 0 {
+        return Some(Vec::new());
     }
-
-    /// METIS nested dissection: the vertices in elimination order.
-    fn node_nd(mut self) -> Option<Vec<idx_t>> {
-        let n = self.len();
-        if n == 0 {
-            return Some(Vec::new());
-        }
-        let mut nv = n as idx_t;
-        let mut options = [0 as idx_t; METIS_NOPTIONS as usize];
-        let mut perm = vec![0 as idx_t; n];
-        let mut iperm = vec![0 as idx_t; n];
-        // A poisoned lock only means another ordering panicked; METIS keeps no state
-        // that a panic on the Rust side could have left half-written.
-        let _guard = METIS_LOCK.lock().unwrap_or_else(|e| e.into_inner());
-        // SAFETY: the arrays have the lengths METIS_NodeND documents (xadj n + 1, adjncy
-        // xadj[n], vwgt, perm and iperm n, options METIS_NOPTIONS); the lock above keeps
-        // other METIS calls out while this one runs.
-        let status = unsafe {
-            METIS_SetDefaultOptions(options.as_mut_ptr());
-            METIS_NodeND(
-                &mut nv,
-                self.xadj.as_mut_ptr(),
-                self.adjncy.as_mut_ptr(),
-                self.vwgt.as_mut_ptr(),
-                options.as_mut_ptr(),
-                perm.as_mut_ptr(),
-                iperm.as_mut_ptr(),
-            )
-        };
-        (status == metis_sys::rstatus_et_METIS_OK).then_some(perm)
-    }
+    let mut nv = n as idx_t;
+    let mut options = [0 as idx_t; METIS_NOPTIONS as usize];
+    let mut perm = vec![0 as idx_t; n];
+    let mut iperm = vec![0 as idx_t; n];
+    // A poisoned lock only means another ordering panicked; METIS keeps no state that a
+    // panic on the Rust side could have left half-written.
+    let _guard = METIS_LOCK.lock().unwrap_or_else(|e| e.into_inner());
+    // SAFETY: the arrays have the lengths METIS_NodeND documents (xadj n + 1, adjncy
+    // xadj[n], vwgt, perm and iperm n, options METIS_NOPTIONS); the lock above keeps
+    // other METIS calls out while this one runs.
+    let status = unsafe {
+        METIS_SetDefaultOptions(options.as_mut_ptr());
+        METIS_NodeND(
+            &mut nv,
+            xadj.as_mut_ptr(),
+            adjncy.as_mut_ptr(),
+            vwgt.as_mut_ptr(),
+            options.as_mut_ptr(),
+            perm.as_mut_ptr(),
+            iperm.as_mut_ptr(),
+        )
+    };
+    (status == metis_sys::rstatus_et_METIS_OK).then_some(perm)
 }
 
 /// Interleave an ordering of n unknowns into one of the 2n-unknown real form

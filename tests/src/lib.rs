@@ -12,8 +12,8 @@ use antinode_solver::NedelecOrder;
 use std::f64::consts::PI;
 use std::time::Instant;
 
-/// Structured grid mesh (five tetrahedra per cell) of the box [0,a]×[0,b]×[0,d] with `n[i]` cells per direction,
-/// one region ("air").
+/// Structured grid mesh (five tetrahedra per cell) of the box [0,a]×[0,b]×[0,d] with
+/// `n[i]` cells per direction, one region ("air").
 pub fn box_mesh(size: [f64; 3], n: [usize; 3]) -> TetMesh {
     let grid = GridLines::uniform([0.0; 3], size, n);
     grid_mesh(&grid, vec![region("air")], |_| Some(0))
@@ -315,8 +315,9 @@ pub fn ghz(k2: f64) -> f64 {
 }
 
 /// A-priori discretisation tolerance for the relative eigenvalue error of a smooth mode
-/// on the structured five-tetrahedra grid meshes: C_p (k h)^{2p}, the O(h^{2p}) law (Boffi, Acta
-/// Numerica 19 (2010), §§ on edge-element eigenvalue convergence, from memory), with
+/// on the structured five-tetrahedra grid meshes: C_p (k h)^{2p}, the O(h^{2p}) law
+/// (Boffi, Acta Numerica 19 (2010), §§ on edge-element eigenvalue convergence, from
+/// memory), with
 /// the constant measured on the cube (0,π)³ (see `tests/cube.rs`, where the observed
 /// worst constants over k² ≤ 6 were C1 = 9.875e-3 (order 1, n = 8) and C2 = 5.025e-4
 /// (order 2, n = 4); rounded up to two digits below) and a safety factor of
