@@ -4,6 +4,7 @@
 //! conforming tetrahedral mesh whose elements carry region ids (air or which load) and
 //! whose boundary triangles carry tags (metal wall or which feed port).
 
+pub mod constants;
 pub mod error;
 pub mod geometry;
 pub mod gmsh;

@@ -7,8 +7,7 @@
 //! a named publication, or "from memory" when the value was recalled rather than read
 //! from the cited table, or "common practice, no source".
 
-/// Vacuum permittivity, F/m (CODATA 2018).
-pub const EPS0: f64 = 8.854_187_812_8e-12;
+use crate::constants::EPS0;
 
 /// Temperature range (°C) accepted for the water model; outside it `water_debye` clamps.
 pub const WATER_TEMPERATURE_RANGE_C: [f64; 2] = [0.0, 100.0];

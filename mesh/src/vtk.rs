@@ -13,6 +13,8 @@
 //! so a failed or rejected write never leaves a half-written file at `path`.
 
 use crate::tet_mesh::{BoundaryTag, TetMesh};
+use base64::engine::general_purpose::{GeneralPurpose, STANDARD};
+use base64::write::EncoderWriter;
 use std::fs::File;
 use std::io::{BufWriter, Write};
 use std::path::{Path, PathBuf};
@@ -468,72 +470,26 @@ fn write_binary_array<W: Write>(
     writeln!(w, "\n        </DataArray>")
 }
 
-/// Streaming base64 encoder (standard alphabet, `=` padding), so large arrays are
-/// encoded without a second in-memory copy.
+/// Streaming base64 (RFC 4648 standard alphabet, `=` padding; the `base64` crate's
+/// encoder), so large arrays are encoded without a second in-memory copy.
 struct Base64Writer<W: Write> {
-    out: W,
-    pending: [u8; 3],
-    n_pending: usize,
-    buf: Vec<u8>,
+    enc: EncoderWriter<'static, GeneralPurpose, W>,
 }
-
-const B64: &[u8; 64] = b"ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789+/";
 
 impl<W: Write> Base64Writer<W> {
     fn new(out: W) -> Self {
         Base64Writer {
-            out,
-            pending: [0; 3],
-            n_pending: 0,
-            buf: Vec::with_capacity(8192),
+            enc: EncoderWriter::new(out, &STANDARD),
         }
     }
 
     fn push(&mut self, bytes: &[u8]) -> std::io::Result<()> {
-        for &b in bytes {
-            self.pending[self.n_pending] = b;
-            self.n_pending += 1;
-            if self.n_pending == 3 {
-                let [a, b, c] = self.pending;
-                self.buf.extend_from_slice(&[
-                    B64[(a >> 2) as usize],
-                    B64[(((a & 0x03) << 4) | (b >> 4)) as usize],
-                    B64[(((b & 0x0f) << 2) | (c >> 6)) as usize],
-                    B64[(c & 0x3f) as usize],
-                ]);
-                self.n_pending = 0;
-                if self.buf.len() >= 8192 {
-                    self.out.write_all(&self.buf)?;
-                    self.buf.clear();
-                }
-            }
-        }
-        Ok(())
+        self.enc.write_all(bytes)
     }
 
+    /// Writes the last group with its padding.
     fn finish(mut self) -> std::io::Result<()> {
-        match self.n_pending {
-            1 => {
-                let a = self.pending[0];
-                self.buf.extend_from_slice(&[
-                    B64[(a >> 2) as usize],
-                    B64[((a & 0x03) << 4) as usize],
-                    b'=',
-                    b'=',
-                ]);
-            }
-            2 => {
-                let [a, b, _] = self.pending;
-                self.buf.extend_from_slice(&[
-                    B64[(a >> 2) as usize],
-                    B64[(((a & 0x03) << 4) | (b >> 4)) as usize],
-                    B64[((b & 0x0f) << 2) as usize],
-                    b'=',
-                ]);
-            }
-            _ => {}
-        }
-        self.out.write_all(&self.buf)
+        self.enc.finish().map(|_| ())
     }
 }
 

@@ -4,8 +4,9 @@
 use super::MesherError;
 use crate::geometry::{CavityShape, Geometry, LoadShape};
 
-/// Speed of light in vacuum, mm/s (exact SI value).
-pub const C0_MM_PER_S: f64 = 299_792_458.0e3;
+/// Speed of light in vacuum in mm/s (geometry files use mm): [`crate::constants::C0`]
+/// times 1000, exact in floating point.
+pub const C0_MM_PER_S: f64 = crate::constants::C0 * 1e3;
 
 /// Growth of the element size per unit distance away from a finer region. Sizes rise by
 /// at most half the distance travelled, so neighbouring elements differ by a factor of
