@@ -1,9 +1,7 @@
 use antinode_mesh::structured::{grid_mesh, GridLines};
 use antinode_mesh::RegionInfo;
-use antinode_solver::assembly::RegionMaterial;
-use antinode_solver::factor::FactorKind;
-use antinode_solver::modes::{solve_modes, ModeSettings};
-use antinode_solver::NedelecOrder;
+use antinode_solver::linalg::factor::FactorKind;
+use antinode_solver::{solve_modes, ModeSettings, NedelecOrder, RegionMaterial};
 use std::time::Instant;
 
 fn main() {

@@ -1,12 +1,11 @@
 use antinode_mesh::structured::{grid_mesh, GridLines};
 use antinode_mesh::{BoundaryTag, RegionInfo};
-use antinode_solver::assembly::{assemble, RegionMaterial};
-use antinode_solver::dofmap::DofMap;
-use antinode_solver::factor::{FactorKind, SymmetricFactor};
-use antinode_solver::modes::{combine, k0_squared};
-use antinode_solver::ordering::nested_dissection;
-use antinode_solver::topology::Topology;
-use antinode_solver::NedelecOrder;
+use antinode_solver::constants::k0_squared;
+use antinode_solver::fem::assembly::assemble;
+use antinode_solver::linalg::factor::{FactorKind, SymmetricFactor};
+use antinode_solver::linalg::ordering::nested_dissection;
+use antinode_solver::linalg::sparse::{combine, spmv};
+use antinode_solver::{NedelecOrder, RegionMaterial, Space};
 use std::time::Instant;
 
 fn main() {
@@ -29,11 +28,10 @@ fn main() {
         vec![RegionInfo { name: "air".into() }],
         |_| Some(0),
     );
-    let topo = Topology::new(&mesh);
-    let dofs = DofMap::new(&topo, mesh.nodes.len(), order, |t| {
+    let space = Space::new(&mesh, order, |t| {
         matches!(t, BoundaryTag::Wall | BoundaryTag::Port(_))
     });
-    let m = assemble(&mesh, &topo, &dofs, &[RegionMaterial::VACUUM]);
+    let m = assemble(&space, &[RegionMaterial::VACUUM]);
     let sigma = k0_squared(2.45e9);
     let a = combine(&[(1.0, &m.stiffness), (-sigma, &m.mass_real)]);
     let (f, i) = nested_dissection(&a).unwrap();
@@ -60,7 +58,7 @@ fn main() {
         let dt = t.elapsed().as_secs_f64();
         let mut ax = vec![0.0; a.rows()];
         let xc: Vec<f64> = (0..a.rows()).map(|r| x[(r, 0)]).collect();
-        antinode_solver::assembly::spmv(&a, &xc, &mut ax);
+        spmv(&a, &xc, &mut ax);
         let rn: f64 = (0..a.rows())
             .map(|r| (ax[r] - b[(r, 0)]).powi(2))
             .sum::<f64>()

@@ -8,11 +8,10 @@
 //! from memory). The estimate uses c = 30 to stay on the safe side. The complex path
 //! factorises a real system of 2n unknowns.
 
-use crate::assembly::RegionMaterial;
-use crate::dofmap::DofMap;
+use crate::fem::assembly::RegionMaterial;
+use crate::fem::Space;
 use crate::modes::ModeSettings;
-use crate::topology::Topology;
-use antinode_mesh::{BoundaryTag, TetMesh};
+use antinode_mesh::TetMesh;
 
 /// Fill constant of the estimate (see the module docs).
 pub const FILL_CONSTANT: f64 = 30.0;
@@ -32,16 +31,10 @@ pub struct Plan {
 
 /// Count unknowns and estimate memory for `settings` on `mesh`.
 pub fn plan(mesh: &TetMesh, materials: &[RegionMaterial], settings: &ModeSettings) -> Plan {
-    let topo = Topology::new(mesh);
-    let n_ports = settings.ports.len();
-    let dofs = DofMap::new(&topo, mesh.nodes.len(), settings.order, |tag| match tag {
-        BoundaryTag::Wall => true,
-        BoundaryTag::Port(p) => p >= n_ports,
-    });
-    let complex = n_ports > 0 || materials.iter().any(|m| m.eps_imag != 0.0);
+    let space = Space::with_ports(mesh, settings.order, settings.ports.len());
     estimate(
-        dofs.n_dofs,
-        complex,
+        space.n_dofs(),
+        settings.is_complex(materials),
         settings.order.per_tet(),
         settings.eigen.basis.max(3 * settings.count),
     )

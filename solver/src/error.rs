@@ -1,23 +1,69 @@
 //! Errors of the solver library.
+//!
+//! Messages say what went wrong and what to change in terms of the problem (target
+//! frequency, number of modes, mesh size, element order), never in terms of one front
+//! end's options: a command-line or script front end adds its own hints.
 
 use thiserror::Error;
+
+/// Which step of the sparse factorisation failed.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum FactorStep {
+    /// Symbolic analysis (elimination tree, supernodes) of the pattern.
+    Symbolic,
+    /// Numeric LDLᵀ without pivoting (a zero pivot: the shifted matrix is singular or
+    /// nearly so).
+    NumericLdlt,
+}
+
+impl std::fmt::Display for FactorStep {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(match self {
+            Self::Symbolic => "symbolic analysis",
+            Self::NumericLdlt => "numeric LDLᵀ factorisation",
+        })
+    }
+}
 
 /// What can go wrong while setting up or solving the eigenproblem.
 #[derive(Debug, Error)]
 pub enum SolverError {
-    /// The sparse factorisation of K − σM failed.
-    #[error("sparse factorisation failed: {0}. Try a slightly different target frequency (the shift may sit exactly on a resonance).")]
-    Factorization(String),
+    /// The sparse factorisation of the shifted matrix K − σM failed.
+    #[error(
+        "the {step} of the shifted matrix ({n} unknowns) failed ({detail}); the shift may \
+         sit exactly on a resonance: move the target frequency slightly"
+    )]
+    FactorFailed {
+        step: FactorStep,
+        /// Order of the factorised matrix.
+        n: usize,
+        /// The factorisation library's own description.
+        detail: String,
+    },
     /// Not enough memory for a workspace.
     #[error(
-        "not enough memory for the {0}; use a coarser mesh (smaller per_wavelength) or order 1"
+        "not enough memory for the {workspace} ({bytes} bytes); use a coarser mesh or \
+         element order 1"
     )]
-    OutOfMemory(String),
+    OutOfMemory {
+        /// Which workspace.
+        workspace: &'static str,
+        /// Its size in bytes.
+        bytes: usize,
+    },
     /// The mesh has no free unknowns (everything constrained).
-    #[error("the mesh has no interior unknowns: it is too coarse to hold any field; refine it (larger per_wavelength or smaller max_size)")]
+    #[error(
+        "the mesh has no interior unknowns: it is too coarse to hold any field; refine it \
+         (more elements per wavelength or a smaller largest element)"
+    )]
     NoUnknowns,
     /// The eigen iteration did not converge.
-    #[error("the eigen solver found only {found} of {wanted} modes to tolerance {tol:e} after {restarts} restarts; try fewer modes or a narrower band; if the target lies below the cavity's lowest resonances, raise it (static fields then crowd the search)")]
+    #[error(
+        "the eigen solver found only {found} of {wanted} modes to tolerance {tol:e} after \
+         {restarts} restarts; ask for fewer modes or a narrower band; if the target lies \
+         below the cavity's lowest resonances, raise it (static fields then crowd the \
+         search)"
+    )]
     NotConverged {
         found: usize,
         wanted: usize,
@@ -26,9 +72,28 @@ pub enum SolverError {
     },
     /// The shift lies so far below the lowest resonance that static (gradient) fields
     /// fill the search space.
-    #[error("the target frequency lies far below the cavity's lowest resonance, so the search finds only static (zero-frequency) fields; raise the target (--target) towards the band of interest")]
+    #[error(
+        "the target frequency lies far below the cavity's lowest resonance, so the search \
+         finds only static (zero-frequency) fields; raise the target towards the band of \
+         interest"
+    )]
     TargetBelowModes,
-    /// A parameter was out of range.
-    #[error("invalid solver setting: {0}")]
-    InvalidSetting(String),
+    /// The dense eigenproblem of the projected (Rayleigh–Ritz) matrix failed to converge.
+    #[error(
+        "the projected {dim} × {dim} eigenproblem of the Krylov iteration did not converge; \
+         change the target frequency slightly or the number of modes"
+    )]
+    Projection { dim: usize },
+    /// The target frequency is not a positive finite number.
+    #[error("target frequency {target_hz} Hz must be a positive finite number")]
+    InvalidTarget { target_hz: f64 },
+    /// Fewer region materials than mesh regions.
+    #[error("{given} region materials given for a mesh with {regions} regions")]
+    MaterialsMissing { given: usize, regions: usize },
+    /// Neither a number of modes nor a band was asked for.
+    #[error("no modes were asked for: give a number of modes (at least 1) or a band")]
+    NoModesWanted,
+    /// An element order this solver does not implement.
+    #[error("Nédélec element order {order} is not available: use 1 or 2")]
+    UnsupportedOrder { order: u8 },
 }

@@ -6,33 +6,30 @@
 //!   ∇ × (μr⁻¹ ∇ × E) − k0² εr E = 0 in Ω,   n × E = 0 on PEC walls.
 //!
 //! The weak form ∫ μr⁻¹ (∇×E)·(∇×v) dV = k0² ∫ εr E·v dV for all v in H0(curl),
-//! discretised with first-kind Nédélec elements (order 1 or 2, [`element`]), gives the
-//! generalised eigenproblem K x = k0² M x ([`assembly`]). Gradients of scalar functions
-//! span the kernel of K; they are kept away by a shift-invert spectral transformation
-//! around σ = k0²(target) ([`eigen`]), and every reported mode is checked to be
-//! divergence-free (Gᵀ M x ≈ 0) and to have a small residual.
+//! discretised with first-kind Nédélec elements (order 1 or 2, [`fem::element`]), gives
+//! the generalised eigenproblem K x = k0² M x ([`fem::assembly`]). Gradients of scalar
+//! functions span the kernel of K; they are kept away by a shift-invert spectral
+//! transformation around σ = k0²(target) ([`linalg::eigen`]), and every reported mode is
+//! checked to be divergence-free (Gᵀ M x ≈ 0) and to have a small residual
+//! ([`modes::checks`]).
+//!
+//! Modules in pipeline order: [`problem`] (geometry → inputs in SI units), [`fem`] (the
+//! discretisation), [`linalg`] (sparse algebra, factorisation, eigen iteration),
+//! [`modes`] (the mode solve as named stages), [`post`] (losses, fields, band figures);
+//! beside them [`constants`], [`budget`] (size before a solve) and [`error`].
 //!
 //! This crate knows nothing of files or terminals.
 
-pub mod assembly;
-pub mod barycentric;
 pub mod budget;
-pub mod dofmap;
-pub mod eigen;
-pub mod element;
+pub mod constants;
 pub mod error;
-pub mod factor;
-pub mod field;
-pub mod topology;
-pub mod triangular;
+pub mod fem;
+pub mod linalg;
+pub mod modes;
+pub mod post;
+pub mod problem;
 
 pub use error::SolverError;
-pub mod losses;
-pub mod modes;
-pub mod ordering;
-pub mod port;
-pub mod problem;
-pub mod tall_skinny;
-
-pub use element::NedelecOrder;
+pub use fem::assembly::RegionMaterial;
+pub use fem::{NedelecOrder, Space};
 pub use modes::{solve_modes, Mode, ModeSet, ModeSettings};

@@ -1,14 +1,50 @@
-//! From a validated geometry to solver inputs: region materials at the target
-//! frequency and the solve settings. The scripting entry point is [`solve_geometry`]:
-//! geometry in, modes out.
+//! From a validated geometry (the file model of `antinode_mesh::geometry`, in mm and
+//! GHz) to solver inputs in SI units: region materials at the target frequency, the
+//! solve settings, the port frames and what the band figures need of the cavity. Every
+//! unit conversion of the geometry file's numbers (mm → m, GHz → Hz) happens here, so
+//! the discretisation ([`crate::fem`]) never sees the file model.
+//!
+//! The scripting entry point is [`solve_geometry`]: geometry in, modes out (see the
+//! `modes_from_geometry` example).
 
-use crate::assembly::RegionMaterial;
-use crate::element::NedelecOrder;
 use crate::error::SolverError;
+use crate::fem::assembly::RegionMaterial;
+use crate::fem::port::PortFrame;
+use crate::fem::NedelecOrder;
 use crate::modes::{solve_modes, ModeSet, ModeSettings, Stage};
-use crate::port::port_frames;
-use antinode_mesh::geometry::WallMetal;
+use crate::post::band::{optical_volume, WeylCavity};
+use antinode_mesh::geometry::{CavityShape, PortWall, WallMetal};
 use antinode_mesh::{Geometry, TetMesh};
+
+/// Metres of a length in mm (geometry files).
+pub fn mm_to_m(mm: f64) -> f64 {
+    mm * 1e-3
+}
+
+/// Hz of a frequency in GHz (geometry files).
+pub fn ghz_to_hz(ghz: f64) -> f64 {
+    ghz * 1e9
+}
+
+/// The solver's inputs for one geometry.
+#[derive(Clone, Debug)]
+pub struct Problem {
+    pub settings: ModeSettings,
+    /// Constants of every mesh region at the target frequency (0 = air, i + 1 = load i).
+    pub materials: Vec<RegionMaterial>,
+}
+
+impl Problem {
+    /// Settings and materials of `geom` (see [`settings_from`], [`region_materials`]).
+    pub fn from_geometry(geom: &Geometry) -> Result<Self, SolverError> {
+        let settings = settings_from(geom)?;
+        let materials = region_materials(geom, settings.target_hz);
+        Ok(Self {
+            settings,
+            materials,
+        })
+    }
+}
 
 /// Material constants of every mesh region (0 = air, i + 1 = load i) at `freq_hz`.
 pub fn region_materials(geom: &Geometry, freq_hz: f64) -> Vec<RegionMaterial> {
@@ -24,11 +60,26 @@ pub fn region_materials(geom: &Geometry, freq_hz: f64) -> Vec<RegionMaterial> {
     out
 }
 
-/// Solve settings from the geometry's `[mesh]` and `[solve]` tables.
-pub fn settings_from(geom: &Geometry) -> ModeSettings {
-    let mut s = ModeSettings::new(geom.solve.target * 1e9);
-    s.order = NedelecOrder::from_int(geom.mesh.order).unwrap_or(NedelecOrder::Two);
-    s.band_hz = geom.solve.band.map(|[lo, hi]| [lo * 1e9, hi * 1e9]);
+/// The element order of the geometry's `[mesh]` table; an order the solver does not
+/// implement is an error (never replaced by a default).
+pub fn order_of(geom: &Geometry) -> Result<NedelecOrder, SolverError> {
+    NedelecOrder::from_int(geom.mesh.order).ok_or(SolverError::UnsupportedOrder {
+        order: geom.mesh.order,
+    })
+}
+
+/// The `[solve]` band in Hz.
+pub fn band_hz(geom: &Geometry) -> Option<[f64; 2]> {
+    geom.solve.band.map(|b| b.map(ghz_to_hz))
+}
+
+/// Solve settings from the geometry's `[mesh]` and `[solve]` tables: order, target,
+/// band, count (20 without a band, 1 beside a band unless given), wall conductivity and
+/// port frames.
+pub fn settings_from(geom: &Geometry) -> Result<ModeSettings, SolverError> {
+    let mut s = ModeSettings::new(ghz_to_hz(geom.solve.target));
+    s.order = order_of(geom)?;
+    s.band_hz = band_hz(geom);
     s.count = match (geom.solve.count, geom.solve.band) {
         (Some(c), _) => c,
         (None, Some(_)) => 1,
@@ -39,16 +90,99 @@ pub fn settings_from(geom: &Geometry) -> ModeSettings {
         WallMetal::Metal { conductivity, .. } => Some(*conductivity),
     };
     s.ports = port_frames(geom);
-    s
+    Ok(s)
 }
 
-/// Solve the modes of `geom` on `mesh` with `settings`.
-pub fn solve_geometry(
+/// What Weyl's estimate needs of the cavity: the empty box's volume and side sum, or
+/// the optical volume of the meshed regions (`region_volumes_m3`, region order).
+pub fn weyl_cavity(
     geom: &Geometry,
-    mesh: &TetMesh,
+    region_volumes_m3: &[f64],
+    materials: &[RegionMaterial],
+) -> WeylCavity {
+    match (geom.cavity.shape, geom.loads.is_empty()) {
+        (CavityShape::Box { size }, true) => WeylCavity::EmptyBox {
+            // mm³ → m³ and mm → m.
+            volume_m3: size.iter().product::<f64>() * 1e-9,
+            edge_sum_m: mm_to_m(size.iter().sum::<f64>()),
+        },
+        _ => WeylCavity::General {
+            optical_volume_m3: optical_volume(region_volumes_m3, materials),
+            loaded: !geom.loads.is_empty(),
+        },
+    }
+}
+
+/// Frames of the geometry's ports, in file order.
+pub fn port_frames(geom: &Geometry) -> Vec<PortFrame> {
+    geom.ports
+        .iter()
+        .map(|p| {
+            let (center, e0, e1, n) = match (p.wall, geom.cavity.shape) {
+                (PortWall::BoxWall { axis, positive }, CavityShape::Box { size }) => {
+                    let [a0, a1] = PortWall::box_in_plane_axes(axis);
+                    let mut c = [0.0; 3];
+                    c[axis] = if positive { size[axis] } else { 0.0 };
+                    c[a0] = p.center[0];
+                    c[a1] = p.center[1];
+                    let mut e0 = [0.0; 3];
+                    e0[a0] = 1.0;
+                    let mut e1 = [0.0; 3];
+                    e1[a1] = 1.0;
+                    let mut n = [0.0; 3];
+                    n[axis] = if positive { 1.0 } else { -1.0 };
+                    (c, e0, e1, n)
+                }
+                (PortWall::Top, CavityShape::Cylinder { height, .. }) => (
+                    [p.center[0], p.center[1], height],
+                    [1.0, 0.0, 0.0],
+                    [0.0, 1.0, 0.0],
+                    [0.0, 0.0, 1.0],
+                ),
+                (PortWall::Bottom, _) => (
+                    [p.center[0], p.center[1], 0.0],
+                    [1.0, 0.0, 0.0],
+                    [0.0, 1.0, 0.0],
+                    [0.0, 0.0, -1.0],
+                ),
+                (PortWall::Side { angle_deg }, CavityShape::Cylinder { radius, .. }) => {
+                    let phi = angle_deg.to_radians() + p.center[0] / radius;
+                    let (s, c) = phi.sin_cos();
+                    (
+                        [radius * c, radius * s, p.center[1]],
+                        [-s, c, 0.0],
+                        [0.0, 0.0, 1.0],
+                        [c, s, 0.0],
+                    )
+                }
+                // Validation rejects ports on walls of the other cavity shape.
+                (_, _) => (
+                    [p.center[0], p.center[1], 0.0],
+                    [1.0, 0.0, 0.0],
+                    [0.0, 1.0, 0.0],
+                    [0.0, 0.0, -1.0],
+                ),
+            };
+            let (u, v) = if p.rotated { (e1, e0) } else { (e0, e1) };
+            PortFrame {
+                center: center.map(mm_to_m),
+                u,
+                v,
+                n,
+                width: mm_to_m(p.width),
+                height: mm_to_m(p.height),
+            }
+        })
+        .collect()
+}
+
+/// Solve the modes of `geom` on `mesh` with `settings` (materials at the target).
+pub fn solve_geometry<'m>(
+    geom: &Geometry,
+    mesh: &'m TetMesh,
     settings: &ModeSettings,
     progress: &mut dyn FnMut(Stage),
-) -> Result<ModeSet, SolverError> {
+) -> Result<ModeSet<'m>, SolverError> {
     let materials = region_materials(geom, settings.target_hz);
     solve_modes(mesh, &materials, settings, progress)
 }

@@ -12,9 +12,10 @@
 
 use antinode_mesh::structured::{grid_mesh, GridLines};
 use antinode_mesh::RegionInfo;
-use antinode_solver::assembly::RegionMaterial;
-use antinode_solver::modes::{solve_modes, ModeSettings, C0};
+use antinode_solver::constants::C0;
 use antinode_solver::NedelecOrder;
+use antinode_solver::RegionMaterial;
+use antinode_solver::{solve_modes, ModeSettings};
 use std::process::Command;
 use std::time::Instant;
 

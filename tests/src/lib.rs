@@ -6,9 +6,10 @@
 
 use antinode_mesh::structured::{grid_mesh, GridLines};
 use antinode_mesh::{RegionInfo, TetMesh};
-use antinode_solver::assembly::RegionMaterial;
-use antinode_solver::modes::{frequency_of, solve_modes, ModeSet, ModeSettings};
+use antinode_solver::constants::frequency_of;
 use antinode_solver::NedelecOrder;
+use antinode_solver::RegionMaterial;
+use antinode_solver::{solve_modes, ModeSet, ModeSettings};
 use std::f64::consts::PI;
 use std::time::Instant;
 
@@ -31,12 +32,12 @@ pub fn grid_h(size: [f64; 3], n: [usize; 3]) -> f64 {
 
 /// Solve for every mode with k0² in `[lo, hi]` (m⁻² or any consistent unit): band solve
 /// with the target at the band centre. Returns the mode set and the wall-clock time (s).
-pub fn solve_band(
-    mesh: &TetMesh,
+pub fn solve_band<'m>(
+    mesh: &'m TetMesh,
     materials: &[RegionMaterial],
     order: NedelecOrder,
     k2_band: [f64; 2],
-) -> (ModeSet, f64) {
+) -> (ModeSet<'m>, f64) {
     let mut s = ModeSettings::new(frequency_of(0.5 * (k2_band[0] + k2_band[1])));
     s.order = order;
     s.band_hz = Some([frequency_of(k2_band[0]), frequency_of(k2_band[1])]);
@@ -47,13 +48,13 @@ pub fn solve_band(
 }
 
 /// Solve for the `count` modes nearest to k0² = `k2_target`.
-pub fn solve_nearest(
-    mesh: &TetMesh,
+pub fn solve_nearest<'m>(
+    mesh: &'m TetMesh,
     materials: &[RegionMaterial],
     order: NedelecOrder,
     k2_target: f64,
     count: usize,
-) -> (ModeSet, f64) {
+) -> (ModeSet<'m>, f64) {
     let mut s = ModeSettings::new(frequency_of(k2_target));
     s.order = order;
     s.count = count;
@@ -63,7 +64,7 @@ pub fn solve_nearest(
 }
 
 /// k0² of the computed modes inside `[lo, hi]`, sorted.
-pub fn k2_in(set: &ModeSet, band: [f64; 2]) -> Vec<f64> {
+pub fn k2_in(set: &ModeSet<'_>, band: [f64; 2]) -> Vec<f64> {
     set.modes
         .iter()
         .map(|m| m.k0_squared)

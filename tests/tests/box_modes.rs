@@ -11,9 +11,9 @@
 //! its multiplicity of computed modes, and no computed mode may be left without a
 //! reference within the tolerance.
 
-use antinode_solver::assembly::RegionMaterial;
-use antinode_solver::modes::k0_squared;
+use antinode_solver::constants::k0_squared;
 use antinode_solver::NedelecOrder;
+use antinode_solver::RegionMaterial;
 use antinode_tests::*;
 
 fn box_case(size_mm: [f64; 3], band_ghz: [f64; 2], order: NedelecOrder, n: [usize; 3]) {

@@ -14,10 +14,10 @@
 //! * No spurious (gradient, λ ≈ 0) mode among the returned ones.
 
 use antinode_mesh::BoundaryTag;
-use antinode_solver::assembly::{assemble, RegionMaterial, SparseMatrix};
-use antinode_solver::dofmap::DofMap;
-use antinode_solver::topology::Topology;
+use antinode_solver::fem::assembly::assemble;
+use antinode_solver::linalg::sparse::SparseMatrix;
 use antinode_solver::NedelecOrder;
+use antinode_solver::{RegionMaterial, Space};
 use antinode_tests::*;
 use faer::{Mat, Side};
 use std::f64::consts::PI;
@@ -41,11 +41,9 @@ fn on_surface(p: [f64; 3], size: f64) -> bool {
 fn dense_case(order: NedelecOrder, n: usize) {
     let size = PI;
     let mesh = box_mesh([size; 3], [n; 3]);
-    let topo = Topology::new(&mesh);
-    let dofs = DofMap::new(&topo, mesh.nodes.len(), order, |t| {
-        matches!(t, BoundaryTag::Wall)
-    });
-    let sys = assemble(&mesh, &topo, &dofs, &[RegionMaterial::VACUUM]);
+    let space = Space::new(&mesh, order, |t| matches!(t, BoundaryTag::Wall));
+    let (topo, dofs) = (&space.topology, &space.dofs);
+    let sys = assemble(&space, &[RegionMaterial::VACUUM]);
     let k = dense(&sys.stiffness);
     let m = dense(&sys.mass_real);
     let nd = dofs.n_dofs;

@@ -17,8 +17,8 @@
 //! band is asserted. The λ = 3 group varies along all three coordinates and shows the
 //! generic rate.
 
-use antinode_solver::assembly::RegionMaterial;
 use antinode_solver::NedelecOrder;
+use antinode_solver::RegionMaterial;
 use antinode_tests::*;
 use std::f64::consts::PI;
 

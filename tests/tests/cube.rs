@@ -7,8 +7,8 @@
 //! C_p = relative error / (k h)^{2p} and asserts that it stays below the constants in
 //! `antinode_tests::GRID_C1/C2` (so a regression of the discretisation shows up here).
 
-use antinode_solver::assembly::RegionMaterial;
 use antinode_solver::NedelecOrder;
+use antinode_solver::RegionMaterial;
 use antinode_tests::*;
 use std::f64::consts::PI;
 

@@ -10,7 +10,8 @@
 //! Tolerances: round-off of a 20×20 solve on a reasonably shaped tetrahedron
 //! (1e-10 relative; common practice, no source).
 
-use antinode_solver::element::{Entity, NedelecTet, TetGeometry};
+use antinode_solver::fem::element::{Entity, NedelecTet};
+use antinode_solver::fem::tet_geometry::TetGeometry;
 use antinode_solver::NedelecOrder;
 use faer::linalg::solvers::Solve;
 use faer::{Mat, Side};

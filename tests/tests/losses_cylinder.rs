@@ -30,10 +30,11 @@
 
 use antinode_mesh::mesher::mesh_geometry;
 use antinode_mesh::{Geometry, TetMesh};
-use antinode_solver::assembly::RegionMaterial;
-use antinode_solver::field::cell_values;
-use antinode_solver::losses::{mode_integrals, mode_q, MU0};
-use antinode_solver::modes::{solve_modes, ModeSet, ModeSettings, C0};
+use antinode_solver::constants::{C0, MU0};
+use antinode_solver::post::field::cell_values;
+use antinode_solver::post::losses::{mode_integrals, mode_q};
+use antinode_solver::RegionMaterial;
+use antinode_solver::{solve_modes, ModeSet, ModeSettings};
 use std::f64::consts::PI;
 use std::time::Instant;
 
@@ -87,7 +88,7 @@ fn equal_area_radius(a: f64, n: usize) -> f64 {
     a * (n as f64 * t.sin() / (2.0 * PI)).sqrt()
 }
 
-fn solve(mesh: &TetMesh, eps_r: f64, target_hz: f64, count: usize) -> (ModeSet, f64) {
+fn solve(mesh: &TetMesh, eps_r: f64, target_hz: f64, count: usize) -> (ModeSet<'_>, f64) {
     let mut s = ModeSettings::new(target_hz);
     s.count = count;
     s.wall_conductivity = Some(SIGMA_CU);
@@ -155,10 +156,10 @@ fn pillbox_tm010() {
 /// with Gram matrices G_bad, G_all it is the smallest root of det(G_bad − μ G_all) = 0,
 /// found by Jacobi rotations after Cholesky whitening).
 fn te0_combination(set: &ModeSet, mesh: &TetMesh, idx: &[usize]) -> (Vec<f64>, f64) {
-    let topo = &set.disc.topology;
+    let topo = &set.space.topology;
     let fields: Vec<Vec<([f64; 3], [f64; 3])>> = idx
         .iter()
-        .map(|&i| cell_values(mesh, topo, &set.disc.dofs, &set.modes[i].coefficients))
+        .map(|&i| cell_values(&set.space, &set.modes[i].coefficients))
         .collect();
     let mut g_all = [[0.0; 3]; 3];
     let mut g_bad = [[0.0; 3]; 3];
@@ -307,7 +308,7 @@ fn te011(per_wavelength: &[f64]) {
             assert!((set.modes[i].frequency_hz / f0 - 1.0).abs() < 0.01);
         }
         let (x, impurity) = te0_combination(&set, &mesh, &idx);
-        let ints = mode_integrals(&mesh, &set.disc.topology, &set.disc.dofs, &[(&x, &[])]);
+        let ints = mode_integrals(&set.space, &[(&x, &[])]);
         let f_mean = idx.iter().map(|&i| set.modes[i].frequency_hz).sum::<f64>() / 3.0;
         let mat = [RegionMaterial {
             eps_real: eps_r,

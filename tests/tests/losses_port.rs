@@ -2,7 +2,7 @@
 //!
 //! (a) Energy balance. With β fixed, the fed problem is the linear complex-symmetric
 //! pencil (K + jβ N e eᵀ) x = λ M x (e: the port amplitude unknown, N the aperture norm;
-//! see `antinode_solver::port`). Multiplying by x^H: x^H K x + jβN|c|² = λ x^H M x with
+//! see `antinode_solver::fem::port`). Multiplying by x^H: x^H K x + jβN|c|² = λ x^H M x with
 //! x^H K x and x^H M x real, so Im λ = βN|c|² / x^H M x exactly. The power-balance
 //! external Q is Q_ext = ωW/P_port = k0² x^H M x / (βN|c|²) (losses.rs) with k0 = Re k,
 //! and λ = k² gives Im λ = 2 Re k Im k, hence Q_ext = Re k/(2 Im k) = Q_eigen exactly
@@ -23,10 +23,11 @@
 
 use antinode_mesh::structured::{grid_mesh, GridLines};
 use antinode_mesh::{BoundaryTag, RegionInfo, TetMesh};
-use antinode_solver::assembly::RegionMaterial;
-use antinode_solver::losses::{mode_q, surface_resistance, ModeIntegrals, PortPower, MU0};
-use antinode_solver::modes::{solve_modes, Mode, ModeSettings, C0};
-use antinode_solver::port::PortFrame;
+use antinode_solver::constants::{C0, MU0};
+use antinode_solver::fem::port::PortFrame;
+use antinode_solver::post::losses::{mode_q, surface_resistance, ModeIntegrals, PortPower};
+use antinode_solver::RegionMaterial;
+use antinode_solver::{solve_modes, Mode, ModeSettings};
 use std::f64::consts::PI;
 use std::time::Instant;
 

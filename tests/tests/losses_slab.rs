@@ -28,9 +28,10 @@
 
 use antinode_mesh::structured::{grid_mesh, GridLines};
 use antinode_mesh::RegionInfo;
-use antinode_solver::assembly::RegionMaterial;
-use antinode_solver::modes::{solve_modes, Mode, ModeSettings, C0};
+use antinode_solver::constants::C0;
 use antinode_solver::NedelecOrder;
+use antinode_solver::RegionMaterial;
+use antinode_solver::{solve_modes, Mode, ModeSettings};
 use antinode_tests::grid_tolerance;
 use std::f64::consts::PI;
 use std::ops::{Add, Div, Mul, Sub};

@@ -24,8 +24,8 @@
 
 use antinode_mesh::mesher::mesh_geometry;
 use antinode_mesh::Geometry;
-use antinode_solver::assembly::RegionMaterial;
 use antinode_solver::NedelecOrder;
+use antinode_solver::RegionMaterial;
 use antinode_tests::*;
 use std::f64::consts::PI;
 

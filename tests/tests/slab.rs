@@ -30,8 +30,8 @@
 //! Tolerance: `grid_tolerance` (order 2) at the slab wavenumber √ε k0 of the window top.
 
 use antinode_mesh::structured::{grid_mesh, GridLines};
-use antinode_solver::assembly::RegionMaterial;
 use antinode_solver::NedelecOrder;
+use antinode_solver::RegionMaterial;
 use antinode_tests::*;
 use std::f64::consts::PI;
 

@@ -14,8 +14,8 @@
 #![allow(clippy::needless_range_loop)] // index loops over the five reference values
 
 use antinode_mesh::structured::{grid_mesh, GridLines};
-use antinode_solver::assembly::RegionMaterial;
 use antinode_solver::NedelecOrder;
+use antinode_solver::RegionMaterial;
 use antinode_tests::*;
 
 const DAUGE: [f64; 5] = [

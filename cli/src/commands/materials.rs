@@ -1,7 +1,8 @@
 //! `antinode materials`: the built-in material list at a frequency and temperature.
 
-use crate::units::MU0;
 use antinode_mesh::material::{self, Material, MaterialValues};
+use antinode_solver::post::losses::surface_resistance;
+use antinode_solver::problem::ghz_to_hz;
 use anyhow::{bail, Result};
 use clap::Args;
 
@@ -29,8 +30,7 @@ pub fn run(args: &MaterialsArgs) -> Result<()> {
             args.temperature
         );
     }
-    let f_hz = args.frequency * 1e9;
-    let omega = 2.0 * std::f64::consts::PI * f_hz;
+    let f_hz = ghz_to_hz(args.frequency);
     println!(
         "Built-in materials at {} GHz (water at {} °C). Load materials use ε′, ε″ \
          (εr = ε′ − jε″); wall metals use conductivity σ and surface resistance \
@@ -65,7 +65,7 @@ pub fn run(args: &MaterialsArgs) -> Result<()> {
     );
     for e in &list {
         if let MaterialValues::Metal { conductivity } = e.values {
-            let rs = (omega * MU0 / (2.0 * conductivity)).sqrt();
+            let rs = surface_resistance(f_hz, conductivity);
             println!(
                 "{:<22} {:>12.4e} {:>12.3}   {}",
                 e.name,

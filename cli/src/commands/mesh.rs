@@ -3,8 +3,8 @@
 use crate::progress::Spinner;
 use crate::units;
 use antinode_mesh::{mesher, quality, vtk, Geometry, TetMesh};
-use antinode_solver::dofmap::DofMap;
-use antinode_solver::topology::Topology;
+use antinode_solver::fem::dofmap::DofMap;
+use antinode_solver::fem::topology::Topology;
 use antinode_solver::NedelecOrder;
 use anyhow::{Context, Result};
 use clap::Args;

@@ -5,22 +5,17 @@ use crate::output::json::{ModesDoc, PlanFigures, RegionInfo, SolveFigures};
 use crate::output::spectrum::{self, Spectrum, SpectrumMode};
 use crate::output::summary::{
     self, BandSummary, GoodCoupling, ModeRow, WeylEstimate, GOOD_COUPLING_REFLECTION,
-    GROUP_TOLERANCE,
 };
 use crate::output::{csv, json, table, vtk_modes};
 use crate::progress::Spinner;
 use crate::units;
-use antinode_mesh::geometry::CavityShape;
 use antinode_solver::budget;
-use antinode_solver::modes::{k0_squared, solve_modes};
-use antinode_solver::problem::{region_materials, settings_from};
-use anyhow::{bail, Context, Result};
+use antinode_solver::post::band::{band_figures, GROUP_TOLERANCE, ISM_BAND_HZ};
+use antinode_solver::problem::{region_materials, settings_from, weyl_cavity};
+use antinode_solver::{solve_modes, SolverError};
+use anyhow::{anyhow, bail, Context, Result};
 use clap::{Args, ValueEnum};
 use std::path::PathBuf;
-
-/// The ISM band used for the summary when neither the file nor `--band` gives one
-/// (ITU Radio Regulations No. 5.150: 2400–2500 MHz).
-const DEFAULT_BAND_GHZ: [f64; 2] = [2.40, 2.50];
 
 /// Share of the available memory a run may plan to use before it is refused.
 const MEMORY_SHARE: f64 = 0.9;
@@ -51,7 +46,7 @@ pub struct ModesArgs {
     #[arg(long, value_name = "N")]
     pub count: Option<usize>,
     /// Nédélec element order: 1 (fast, error ~h²) or 2 (accurate, error ~h⁴).
-    #[arg(long, value_name = "1|2", value_parser = clap::value_parser!(u8).range(1..=2))]
+    #[arg(long, value_name = "1|2")]
     pub order: Option<u8>,
     /// Elements per local wavelength (overrides [mesh] per_wavelength).
     #[arg(long, value_name = "X")]
@@ -115,7 +110,8 @@ pub fn run(args: &ModesArgs) -> Result<()> {
     if let Some(m) = args.max_size {
         geom.mesh.max_size = positive("--max-size", m)?;
     }
-    let settings = settings_from(&geom);
+    // The file's order was checked by its parser; an unavailable one here came from --order.
+    let settings = settings_from(&geom).map_err(|e| anyhow!("{e} (--order)"))?;
     let order = settings.order;
 
     let (mesh, mesh_s) = super::mesh::make(&geom)?;
@@ -163,15 +159,27 @@ pub fn run(args: &ModesArgs) -> Result<()> {
     let spinner = Spinner::start("solving");
     let result = solve_modes(&mesh, &mats, &settings, &mut |s| spinner.stage(s));
     spinner.finish();
-    let set = result.context("eigen solve failed")?;
+    let set = result.map_err(with_hint)?;
 
-    // Rows and band summary.
+    // Rows and band summary. The band is shown in the file's GHz; figures use Hz.
     let target_ghz = geom.solve.target;
     let band_explicit = geom.solve.band.is_some();
-    let band = geom.solve.band.unwrap_or(DEFAULT_BAND_GHZ);
+    let band = geom.solve.band.unwrap_or(ISM_BAND_HZ.map(|f| f / 1e9));
     let band_from = band_from.unwrap_or_else(|| {
         "default ISM band, ITU Radio Regulations No. 5.150; not used to choose modes".into()
     });
+    let freq_q: Vec<(f64, f64)> = set
+        .modes
+        .iter()
+        .map(|m| (m.frequency_hz, m.q.q_loaded))
+        .collect();
+    let figures = band_figures(
+        &freq_q,
+        settings.band_hz.unwrap_or(ISM_BAND_HZ),
+        settings.target_hz,
+        set.stats.search_radius,
+        weyl_cavity(&geom, &mesh.region_volumes(), &mats),
+    );
     let load_names: Vec<String> = geom.loads.iter().map(|l| l.name.clone()).collect();
     let port_names: Vec<String> = geom.ports.iter().map(|p| p.name.clone()).collect();
     let rows: Vec<ModeRow> = set
@@ -193,7 +201,7 @@ pub fn run(args: &ModesArgs) -> Result<()> {
                 delta_mhz: (f - target_ghz) * 1e3,
                 residual: m.residual,
                 divergence: m.divergence,
-                in_band: f >= band[0] && f <= band[1],
+                in_band: figures.in_band.contains(&i),
                 q_eigen: m.q_eigen,
                 q_loaded: q.q_loaded,
                 q_unloaded: q.q_unloaded,
@@ -218,67 +226,7 @@ pub fn run(args: &ModesArgs) -> Result<()> {
             }
         })
         .collect();
-    let sigma = k0_squared(target_ghz * 1e9);
-    // Every eigenvalue inside the solver's search disc (radius R around σ in the λ = k0²
-    // plane) was found. A mode at a band edge λe with Im λ ≈ λe/Q lies inside when
-    // (λe − σ)² + (λe/Q)² ≤ R², i.e. Q ≥ λe/√(R² − (λe − σ)²): the listing is complete
-    // for modes damped less than that (Q from loads and ports).
-    let reach = set.stats.search_radius;
-    let edges = [k0_squared(band[0] * 1e9), k0_squared(band[1] * 1e9)];
-    let complete = edges.iter().all(|&e| (e - sigma).abs() < reach);
-    let complete_above_q = if complete {
-        edges
-            .iter()
-            .map(|&e| e / (reach * reach - (e - sigma).powi(2)).sqrt())
-            .fold(0.0, f64::max)
-    } else {
-        f64::INFINITY
-    };
-
-    let vols = mesh.region_volumes();
-    let weyl = if let (CavityShape::Box { size }, true) = (geom.cavity.shape, geom.loads.is_empty())
-    {
-        let v = size.iter().product::<f64>() * 1e-9;
-        let edges = size.iter().sum::<f64>() * 1e-3;
-        WeylEstimate {
-            modes: summary::weyl_count(band[1] * 1e9, v, Some(edges))
-                - summary::weyl_count(band[0] * 1e9, v, Some(edges)),
-            formula: "empty box: N(f) = 8πVf³/(3c³) − (a+b+c)f/c + 1/2".into(),
-            volume_m3: v,
-            source: "Weyl's law, e.g. Balian & Bloch, Ann. Phys. 64 (1971) 271, from memory".into(),
-        }
-    } else {
-        let v: f64 = vols
-            .iter()
-            .zip(&mats)
-            .map(|(v, m)| v * (m.eps_real * m.mu_r).powf(1.5))
-            .sum();
-        WeylEstimate {
-            modes: summary::weyl_count(band[1] * 1e9, v, None)
-                - summary::weyl_count(band[0] * 1e9, v, None),
-            formula: if geom.loads.is_empty() {
-                "N(f) ≈ 8πVf³/(3c³) (leading term)".into()
-            } else {
-                "N(f) ≈ 8πVf³/(3c³) with optical volume V = Σ V_i (ε′μr)^1.5 (leading term)".into()
-            },
-            volume_m3: v,
-            source: "Weyl's law, e.g. Balian & Bloch, Ann. Phys. 64 (1971) 271, from memory".into(),
-        }
-    };
-    let in_band_hz: Vec<f64> = set
-        .modes
-        .iter()
-        .map(|m| m.frequency_hz)
-        .filter(|f| *f >= band[0] * 1e9 && *f <= band[1] * 1e9)
-        .collect();
-    let groups = summary::groups(&in_band_hz);
-    let mean_spacing_mhz = match (groups.first(), groups.last()) {
-        (Some(a), Some(b)) if groups.len() > 1 => Some((b - a) * 1e-6 / (groups.len() - 1) as f64),
-        _ => None,
-    };
-    let all: Vec<(f64, f64)> = rows.iter().map(|r| (r.frequency_ghz, r.q_loaded)).collect();
-    let in_band_idx: Vec<usize> = (0..rows.len()).filter(|&i| rows[i].in_band).collect();
-    let modal_overlap = summary::modal_overlap(&all, &in_band_idx);
+    let in_band_idx = &figures.in_band;
     let good_coupling: Vec<GoodCoupling> = in_band_idx
         .iter()
         .flat_map(|&i| {
@@ -340,14 +288,19 @@ pub fn run(args: &ModesArgs) -> Result<()> {
         band_summary: BandSummary {
             band_ghz: band,
             band_from,
-            modes_in_band: in_band_hz.len(),
-            complete,
-            complete_above_q: complete.then_some(complete_above_q),
-            weyl_estimate: weyl,
-            distinct_frequencies: groups.len(),
+            modes_in_band: figures.in_band.len(),
+            complete: figures.completeness.complete,
+            complete_above_q: figures.completeness.above_q,
+            weyl_estimate: WeylEstimate {
+                modes: figures.weyl.modes,
+                formula: figures.weyl.formula.into(),
+                volume_m3: figures.weyl.volume_m3,
+                source: figures.weyl.source.into(),
+            },
+            distinct_frequencies: figures.groups_hz.len(),
             group_tolerance_relative: GROUP_TOLERANCE,
-            mean_spacing_mhz,
-            modal_overlap,
+            mean_spacing_mhz: figures.mean_spacing_hz.map(|s| s * 1e-6),
+            modal_overlap: figures.modal_overlap,
             good_coupling,
             good_coupling_reflection: GOOD_COUPLING_REFLECTION,
             q_check_max_relative,
@@ -386,7 +339,7 @@ pub fn run(args: &ModesArgs) -> Result<()> {
         .with_context(|| format!("cannot write {}", svg_path.display()))?;
     if !args.no_fields {
         let spinner = Spinner::start("writing mode fields");
-        let r = vtk_modes::write_all(&dir, &mesh, &set, &mats);
+        let r = vtk_modes::write_all(&dir, &set, &mats);
         spinner.finish();
         r?;
     }
@@ -412,6 +365,29 @@ pub fn run(args: &ModesArgs) -> Result<()> {
         }
     }
     Ok(())
+}
+
+/// The solver's error with what to change on this command line.
+fn with_hint(e: SolverError) -> anyhow::Error {
+    let hint = match &e {
+        SolverError::TargetBelowModes => "try a higher --target",
+        SolverError::NotConverged { .. } => {
+            "try a smaller --count or a narrower --band, or a higher --target"
+        }
+        SolverError::FactorFailed { .. } | SolverError::Projection { .. } => {
+            "try a slightly different --target"
+        }
+        SolverError::OutOfMemory { .. } => {
+            "try --order 1, a smaller --per-wavelength or a larger --max-size"
+        }
+        SolverError::NoUnknowns => "try a larger --per-wavelength or a smaller --max-size",
+        _ => "",
+    };
+    if hint.is_empty() {
+        anyhow!("eigen solve failed: {e}")
+    } else {
+        anyhow!("eigen solve failed: {e} ({hint})")
+    }
 }
 
 /// The spectrum picture: the band when one was given or when it holds the target,

@@ -15,6 +15,7 @@
 //!   phases are not computed), which is an approximation where modes overlap; it never
 //!   exceeds 1.
 
+use antinode_solver::post::band::ISM_BAND_HZ;
 use std::fmt::Write as _;
 
 /// One mode as the spectrum needs it.
@@ -40,7 +41,7 @@ pub struct Spectrum<'a> {
 }
 
 /// ISM band drawn shaded (ITU Radio Regulations No. 5.150), GHz.
-pub const ISM_GHZ: [f64; 2] = [2.40, 2.50];
+pub const ISM_GHZ: [f64; 2] = [ISM_BAND_HZ[0] / 1e9, ISM_BAND_HZ[1] / 1e9];
 
 const W: f64 = 960.0;
 const H: f64 = 500.0;
@@ -125,13 +126,32 @@ fn samples(s: &Spectrum) -> Vec<f64> {
     f
 }
 
+/// Placement of the plot area: frequency and value to SVG coordinates.
+struct Plot {
+    lo: f64,
+    hi: f64,
+    pw: f64,
+    ph: f64,
+}
+
+impl Plot {
+    fn x(&self, f: f64) -> f64 {
+        LEFT + self.pw * (f - self.lo) / (self.hi - self.lo)
+    }
+    fn y(&self, v: f64) -> f64 {
+        TOP + self.ph * (1.0 - v.clamp(0.0, 1.0))
+    }
+}
+
 /// The SVG document.
 pub fn svg(s: &Spectrum) -> String {
     let [lo, hi] = s.range_ghz;
-    let pw = W - LEFT - RIGHT;
-    let ph = H - TOP - BOTTOM;
-    let x = |f: f64| LEFT + pw * (f - lo) / (hi - lo);
-    let y = |v: f64| TOP + ph * (1.0 - v.clamp(0.0, 1.0));
+    let plot = Plot {
+        lo,
+        hi,
+        pw: W - LEFT - RIGHT,
+        ph: H - TOP - BOTTOM,
+    };
     let mut o = String::new();
     let _ = writeln!(
         o,
@@ -149,6 +169,19 @@ pub fn svg(s: &Spectrum) -> String {
         r##"<text x="{}" y="44" text-anchor="middle" font-size="12" fill="#444">Resonant modes and coupled power (computed by antinode)</text>"##,
         W / 2.0
     );
+    frame(&mut o, &plot);
+    let fs = samples(s);
+    mode_curves(&mut o, &plot, s, &fs);
+    port_curves(&mut o, &plot, s, &fs);
+    o.push_str("</svg>\n");
+    o
+}
+
+/// ISM band, grid, axes and axis titles.
+fn frame(o: &mut String, plot: &Plot) {
+    let (lo, hi, pw, ph) = (plot.lo, plot.hi, plot.pw, plot.ph);
+    let x = |f: f64| plot.x(f);
+    let y = |v: f64| plot.y(v);
     // ISM band.
     let (a, b) = (ISM_GHZ[0].max(lo), ISM_GHZ[1].min(hi));
     if a < b {
@@ -214,9 +247,13 @@ pub fn svg(s: &Spectrum) -> String {
         r#"<text transform="translate(22 {:.2}) rotate(-90)" text-anchor="middle">fraction (mode curves: peak = 1)</text>"#,
         TOP + ph / 2.0
     );
+}
 
-    // Modes.
-    let fs = samples(s);
+/// One curve (or a dashed line for infinite Q_L) and a label per mode.
+fn mode_curves(o: &mut String, plot: &Plot, s: &Spectrum, fs: &[f64]) {
+    let (lo, hi) = (plot.lo, plot.hi);
+    let x = |f: f64| plot.x(f);
+    let y = |v: f64| plot.y(v);
     let mut last_label = f64::NEG_INFINITY;
     let mut raised = false;
     for m in s.modes {
@@ -253,6 +290,13 @@ pub fn svg(s: &Spectrum) -> String {
             m.index
         );
     }
+}
+
+/// The coupled-power curve of each port, the legend and the notes.
+fn port_curves(o: &mut String, plot: &Plot, s: &Spectrum, fs: &[f64]) {
+    let ph = plot.ph;
+    let x = |f: f64| plot.x(f);
+    let y = |v: f64| plot.y(v);
     // Ports.
     for (p, name) in s.ports.iter().enumerate() {
         let colour = PORT_COLOURS[p % PORT_COLOURS.len()];
@@ -306,6 +350,4 @@ pub fn svg(s: &Spectrum) -> String {
             esc(note)
         );
     }
-    o.push_str("</svg>\n");
-    o
 }

@@ -1,14 +1,13 @@
 //! Per-mode rows and the band summary shared by the table, JSON and CSV outputs.
 //!
+//! The figures themselves come from the solver (`antinode_solver::post::band`); this
+//! module only shapes them for the documents and combines Q parts for display.
+//!
 //! Infinite quality factors (a loss the model does not have, e.g. PEC walls or no port)
 //! are written as JSON `null`, as `inf` in CSV and as `∞` in the table.
 
-use crate::units::C0;
 use serde::{Serialize, Serializer};
 use std::collections::BTreeMap;
-
-/// Modes whose frequencies differ by at most this fraction count as one group.
-pub const GROUP_TOLERANCE: f64 = 1e-4;
 
 /// Reflection at resonance at or below which the feed is said to couple well
 /// (|Γ| = 0.5 ↔ 75 % of the forward power enters the cavity; common practice, no source).
@@ -101,7 +100,8 @@ pub fn combine_q(parts: &[f64]) -> f64 {
     }
 }
 
-/// Weyl's-law estimate of the number of modes in a band.
+/// Weyl's-law estimate of the number of modes in a band
+/// (`antinode_solver::post::band::WeylEstimate`, for the documents).
 #[derive(Clone, Debug, Serialize)]
 pub struct WeylEstimate {
     /// Estimated number of modes between the band edges (smoothed count, not an integer).
@@ -151,107 +151,4 @@ pub struct BandSummary {
     pub good_coupling_reflection: f64,
     /// Largest |q_eigen / q_balance − 1| over the modes (None when all Q are infinite).
     pub q_check_max_relative: Option<f64>,
-}
-
-/// Modal overlap as defined in [`BandSummary::modal_overlap`]; `all` = (f, Q_L) of every
-/// mode found, `in_band` = indices into `all`.
-pub fn modal_overlap(all: &[(f64, f64)], in_band: &[usize]) -> Option<f64> {
-    let counts: Vec<usize> = in_band
-        .iter()
-        .filter(|&&i| all[i].1.is_finite())
-        .map(|&i| {
-            let (f, q) = all[i];
-            let half = 0.5 * f / q;
-            all.iter()
-                .enumerate()
-                .filter(|&(j, &(g, _))| j != i && (g - f).abs() <= half)
-                .count()
-        })
-        .collect();
-    (!counts.is_empty()).then(|| counts.iter().sum::<usize>() as f64 / counts.len() as f64)
-}
-
-/// Smoothed mode count below `f_hz` (Weyl's law).
-///
-/// N(f) ≈ 8πV f³/(3c³) for any cavity; for an empty box with sides a, b, c the
-/// next terms give N(f) = 8πV f³/(3c³) − (a + b + c) f/c + 1/2. Source: Weyl's law
-/// with its boundary terms, e.g. Balian & Bloch, Ann. Phys. 64 (1971) 271 (from memory).
-/// With loads, V is the optical volume Σ V_i (ε′_i μr_i)^{3/2}, since the local density
-/// of modes scales with the cube of the local refractive index.
-pub fn weyl_count(f_hz: f64, volume_m3: f64, box_edges_m: Option<f64>) -> f64 {
-    let lead = 8.0 * std::f64::consts::PI * volume_m3 * f_hz.powi(3) / (3.0 * C0.powi(3));
-    match box_edges_m {
-        Some(sum) => lead - sum * f_hz / C0 + 0.5,
-        None => lead,
-    }
-}
-
-/// Number of distinct frequencies (groups within [`GROUP_TOLERANCE`]) among sorted
-/// frequencies, and the group frequencies (means of their members).
-pub fn groups(sorted_hz: &[f64]) -> Vec<f64> {
-    let mut out: Vec<(f64, usize)> = Vec::new();
-    let mut last = f64::NAN;
-    for &f in sorted_hz {
-        match out.last_mut() {
-            Some((sum, n)) if (f - last).abs() <= GROUP_TOLERANCE * last.abs() => {
-                *sum += f;
-                *n += 1;
-            }
-            _ => out.push((f, 1)),
-        }
-        last = f;
-    }
-    out.into_iter().map(|(s, n)| s / n as f64).collect()
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    /// Weyl's smoothed count against the exact mode count of an empty 300 × 300 × 200 mm
-    /// box, whose modes are the analytic TE/TM_mnp (Pozar, Microwave Engineering, 4th ed.,
-    /// §6.3: f = c/2·√((m/a)² + (n/b)² + (p/d)²), two polarisations when no index is 0,
-    /// one when exactly one is). The exact staircase fluctuates about the smooth count
-    /// with zero mean, so the mean difference over 400 frequencies in 5–10 GHz (where the
-    /// box has ~1,000–5,600 modes) must be small: within 3 modes. The boundary term alone
-    /// is worth ~20 modes on average there, so the check also pins its sign and size.
-    #[test]
-    fn weyl_count_follows_the_exact_box_count() {
-        let (a, b, d) = (0.3, 0.3, 0.2);
-        let f_max = 10.5e9;
-        let mut exact = Vec::new();
-        let lim = |len: f64| (2.0 * len * f_max / C0).ceil() as usize + 1;
-        for m in 0..lim(a) {
-            for n in 0..lim(b) {
-                for p in 0..lim(d) {
-                    let zeros = (m == 0) as u8 + (n == 0) as u8 + (p == 0) as u8;
-                    if zeros > 1 {
-                        continue;
-                    }
-                    let f = C0 / 2.0
-                        * ((m as f64 / a).powi(2)
-                            + (n as f64 / b).powi(2)
-                            + (p as f64 / d).powi(2))
-                        .sqrt();
-                    if f <= f_max {
-                        exact.extend(std::iter::repeat_n(f, if zeros == 0 { 2 } else { 1 }));
-                    }
-                }
-            }
-        }
-        exact.sort_by(f64::total_cmp);
-        let samples = 400;
-        let mean_difference = (0..samples)
-            .map(|i| {
-                let f = 5e9 + 5e9 * (i as f64 + 0.5) / samples as f64;
-                let n_exact = exact.partition_point(|&x| x <= f) as f64;
-                n_exact - weyl_count(f, a * b * d, Some(a + b + d))
-            })
-            .sum::<f64>()
-            / samples as f64;
-        assert!(
-            mean_difference.abs() <= 3.0,
-            "mean exact − Weyl count over 5–10 GHz: {mean_difference:.2} modes"
-        );
-    }
 }

@@ -2,8 +2,8 @@
 //! checks, then Q and power (kept within about 100 columns for one or two ports).
 
 use super::json::ModesDoc;
-use super::summary::GROUP_TOLERANCE;
 use crate::units;
+use antinode_solver::post::band::GROUP_TOLERANCE;
 
 /// A quality factor for the table: `∞` when infinite, 3 significant figures otherwise.
 pub fn q_text(q: f64) -> String {
@@ -24,6 +24,8 @@ fn short(name: &str, width: usize) -> String {
     name.chars().take(width).collect()
 }
 
+/// Prints the whole result: heading, the two mode tables, the band summary and the
+/// solve figures.
 pub fn print(doc: &ModesDoc) {
     println!("{}", doc.title);
     println!(
@@ -38,6 +40,17 @@ pub fn print(doc: &ModesDoc) {
         }
     );
     println!();
+    print_frequencies(doc);
+    println!();
+    print_q(doc);
+    println!();
+    print_band(doc);
+    println!();
+    print_solve(doc);
+}
+
+/// The first table: frequencies and their checks.
+fn print_frequencies(doc: &ModesDoc) {
     println!("Frequencies and checks");
     println!(
         "{:>5}  {:>12}  {:>9}  {:>9}  {:>9}  {:>9}  {:>7}  {:>10}",
@@ -75,8 +88,10 @@ pub fn print(doc: &ModesDoc) {
              within a factor 2, so the check reads ≈ 0 then; it tests Q_d and the scaling only)"
         );
     }
+}
 
-    println!();
+/// The second table: Q parts, coupling and power split.
+fn print_q(doc: &ModesDoc) {
     println!("Q and power");
     let mut head = format!(
         "{:>5}  {:>10}  {:>8}  {:>8}  {:>8}  {:>8}",
@@ -148,9 +163,11 @@ pub fn print(doc: &ModesDoc) {
         );
     }
     println!("  E load % = share of the stored electric energy inside the loads");
+}
 
+/// The band summary.
+fn print_band(doc: &ModesDoc) {
     let b = &doc.band_summary;
-    println!();
     println!(
         "band {:.4}–{:.4} GHz ({}):",
         b.band_ghz[0], b.band_ghz[1], b.band_from
@@ -225,8 +242,11 @@ pub fn print(doc: &ModesDoc) {
             "  check: Q from the eigenvalue vs power balance, largest |Q_eig/Q_bal − 1| = {c:.1e}"
         );
     }
+}
+
+/// Sizes and times of the solve.
+fn print_solve(doc: &ModesDoc) {
     let s = &doc.solve;
-    println!();
     println!(
         "solve: {} unknowns ({}), {} matrix non-zeros, factor {} entries (planned before \
          assembly: {:.3e}, estimate); planned peak memory {} (estimate{}); mesh {:.2} s, \

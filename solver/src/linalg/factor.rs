@@ -6,10 +6,10 @@
 //! Accuracy of a solve is checked by its residual and improved by iterative refinement
 //! x ← x + A⁻¹(b − Ax) when asked.
 
-use crate::assembly::{spmv, SparseMatrix};
-use crate::error::SolverError;
-use crate::tall_skinny::{column, column_mut};
-use crate::triangular::{self, LbltFactor, TreeSchedule};
+use crate::error::{FactorStep, SolverError};
+use crate::linalg::sparse::{spmv, SparseMatrix};
+use crate::linalg::tall_skinny::{column, column_mut};
+use crate::linalg::triangular::{self, LbltFactor, TreeSchedule};
 use faer::dyn_stack::{MemBuffer, MemStack};
 use faer::linalg::cholesky::ldlt::factor::LdltRegularization;
 use faer::perm::PermRef;
@@ -92,14 +92,20 @@ impl SymmetricFactor {
             ord,
             CholeskySymbolicParams::default(),
         )
-        .map_err(|e| SolverError::Factorization(format!("symbolic analysis failed: {e:?}")))?;
+        .map_err(|e| SolverError::FactorFailed {
+            step: FactorStep::Symbolic,
+            n: a.rows(),
+            detail: format!("{e:?}"),
+        })?;
         let len = symbolic.len_val();
         let numeric = match kind {
             FactorKind::Ldlt => {
                 let mut values = vec![0.0; len];
                 let req = symbolic.factorize_numeric_ldlt_scratch::<f64>(par, Default::default());
-                let mut mem = MemBuffer::try_new(req)
-                    .map_err(|_| SolverError::OutOfMemory("LDLᵀ workspace".into()))?;
+                let mut mem = MemBuffer::try_new(req).map_err(|_| SolverError::OutOfMemory {
+                    workspace: "LDLᵀ factorisation workspace",
+                    bytes: req.size_bytes(),
+                })?;
                 symbolic
                     .factorize_numeric_ldlt(
                         &mut values,
@@ -110,10 +116,10 @@ impl SymmetricFactor {
                         MemStack::new(&mut mem),
                         Default::default(),
                     )
-                    .map_err(|e| {
-                        SolverError::Factorization(format!(
-                            "LDLᵀ failed (singular shifted matrix?): {e:?}"
-                        ))
+                    .map_err(|e| SolverError::FactorFailed {
+                        step: FactorStep::NumericLdlt,
+                        n: a.rows(),
+                        detail: format!("{e:?}"),
                     })?;
                 Numeric::Ldlt { values }
             }
@@ -125,8 +131,10 @@ impl SymmetricFactor {
                 let mut inv = vec![0u32; n];
                 let req = symbolic
                     .factorize_numeric_intranode_lblt_scratch::<f64>(par, Default::default());
-                let mut mem = MemBuffer::try_new(req)
-                    .map_err(|_| SolverError::OutOfMemory("LBLᵀ workspace".into()))?;
+                let mut mem = MemBuffer::try_new(req).map_err(|_| SolverError::OutOfMemory {
+                    workspace: "LBLᵀ factorisation workspace",
+                    bytes: req.size_bytes(),
+                })?;
                 symbolic.factorize_numeric_intranode_lblt(
                     &mut values,
                     &mut subdiag,
@@ -305,12 +313,11 @@ pub const REFINE_ABOVE: f64 = 1e-10;
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::assembly::{assemble, RegionMaterial};
-    use crate::dofmap::DofMap;
-    use crate::element::NedelecOrder;
-    use crate::modes::{combine, k0_squared};
-    use crate::ordering::nested_dissection;
-    use crate::topology::Topology;
+    use crate::constants::k0_squared;
+    use crate::fem::assembly::{assemble, RegionMaterial};
+    use crate::fem::{NedelecOrder, Space};
+    use crate::linalg::ordering::nested_dissection;
+    use crate::linalg::sparse::combine;
     use antinode_mesh::structured::{grid_mesh, GridLines};
     use antinode_mesh::RegionInfo;
     use rand::{Rng, SeedableRng};
@@ -324,9 +331,8 @@ mod tests {
             vec![RegionInfo { name: "air".into() }],
             |_| Some(0),
         );
-        let topo = Topology::new(&mesh);
-        let dofs = DofMap::new(&topo, mesh.nodes.len(), NedelecOrder::Two, |_| true);
-        let m = assemble(&mesh, &topo, &dofs, &[RegionMaterial::VACUUM]);
+        let space = Space::new(&mesh, NedelecOrder::Two, |_| true);
+        let m = assemble(&space, &[RegionMaterial::VACUUM]);
         let a = combine(&[(1.0, &m.stiffness), (-k0_squared(2.45e9), &m.mass_real)]);
         let ord = nested_dissection(&a).expect("ordering");
         let f = SymmetricFactor::new(&a, FactorKind::Lblt, Par::Seq, Some((&ord.0, &ord.1)))

@@ -2,7 +2,7 @@
 //!
 //! Each tetrahedron's vertices are reordered by ascending global index, so that local
 //! edge (i < j) and face (i < j < k) orientations agree with the global ones (see
-//! [`crate::element`]). Edges and faces are numbered by sorting their vertex tuples.
+//! [`crate::fem::element`]). Edges and faces are numbered by sorting their vertex tuples.
 
 use antinode_mesh::{BoundaryTag, TetMesh};
 use rayon::prelude::*;
@@ -12,9 +12,9 @@ use rayon::prelude::*;
 pub struct Topology {
     /// Tetrahedra with vertices in ascending global order.
     pub tets: Vec<[u32; 4]>,
-    /// Global edge index of each local edge (order of [`crate::element::EDGES`]).
+    /// Global edge index of each local edge (order of [`crate::fem::element::EDGES`]).
     pub tet_edges: Vec<[u32; 6]>,
-    /// Global face index of each local face (order of [`crate::element::FACES`]).
+    /// Global face index of each local face (order of [`crate::fem::element::FACES`]).
     pub tet_faces: Vec<[u32; 4]>,
     /// Edges as sorted vertex pairs.
     pub edges: Vec<[u32; 2]>,
@@ -45,7 +45,7 @@ impl Topology {
         // Edges: (v0, v1, tet*6 + local) sorted.
         let mut e: Vec<(u32, u32, u32)> = Vec::with_capacity(tets.len() * 6);
         for (ti, t) in tets.iter().enumerate() {
-            for (l, &(i, j)) in crate::element::EDGES.iter().enumerate() {
+            for (l, &(i, j)) in crate::fem::element::EDGES.iter().enumerate() {
                 e.push((t[i], t[j], (ti * 6 + l) as u32));
             }
         }
@@ -62,7 +62,7 @@ impl Topology {
         drop(e);
         let mut f: Vec<([u32; 3], u32)> = Vec::with_capacity(tets.len() * 4);
         for (ti, t) in tets.iter().enumerate() {
-            for (l, &(i, j, k)) in crate::element::FACES.iter().enumerate() {
+            for (l, &(i, j, k)) in crate::fem::element::FACES.iter().enumerate() {
                 f.push(([t[i], t[j], t[k]], (ti * 4 + l) as u32));
             }
         }

@@ -17,15 +17,14 @@
 //!
 //! With several ports, the other ports count as losses for port p (they are matched).
 
-use crate::assembly::RegionMaterial;
-use crate::dofmap::{DofMap, FIXED};
-use crate::element::{face_normal_area, NedelecTet, TetGeometry};
-use crate::topology::Topology;
-use antinode_mesh::{BoundaryTag, TetMesh};
+use crate::constants::{C0, MU0};
+use crate::fem::assembly::RegionMaterial;
+use crate::fem::dofmap::FIXED;
+use crate::fem::element::NedelecTet;
+use crate::fem::tet_geometry::face_normal_area;
+use crate::fem::Space;
+use antinode_mesh::BoundaryTag;
 use rayon::prelude::*;
-
-/// μ0 (H/m), CODATA 2018 value.
-pub const MU0: f64 = 1.256_637_062_12e-6;
 
 /// Field integrals of one mode.
 #[derive(Clone, Debug, Default, PartialEq)]
@@ -72,12 +71,8 @@ fn quad_if(m: &[f64], n: usize, im: &[f64], xi: &[f64]) -> f64 {
 
 /// Integrals of several modes (each given by real and imaginary coefficient vectors
 /// over the free unknowns). One pass over the mesh for all modes.
-pub fn mode_integrals(
-    mesh: &TetMesh,
-    topo: &Topology,
-    dofs: &DofMap,
-    modes: &[(&[f64], &[f64])],
-) -> Vec<ModeIntegrals> {
+pub fn mode_integrals(space: &Space<'_>, modes: &[(&[f64], &[f64])]) -> Vec<ModeIntegrals> {
+    let (mesh, topo, dofs) = (space.mesh, &space.topology, &space.dofs);
     let element = NedelecTet::new(dofs.order);
     let nl = element.len();
     let nreg = mesh.regions.len().max(1);
@@ -102,8 +97,8 @@ pub fn mode_integrals(
                 )
             },
             |(mut acc, mut kc, mut mm, mut xl), t| {
-                let x = topo.tets[t].map(|v| mesh.nodes[v as usize]);
-                let geo = TetGeometry::new(x);
+                let x = space.tet_vertices(t);
+                let geo = space.tet_geometry(t);
                 element.matrices(&geo, &mut kc, &mut mm);
                 let td = dofs.of_tet(t);
                 let region = mesh.tet_region[t] as usize;
@@ -204,7 +199,7 @@ pub fn mode_q(
     ports: &[PortPower],
 ) -> ModeQ {
     let omega = 2.0 * std::f64::consts::PI * freq_hz;
-    let k0 = omega / crate::modes::C0;
+    let k0 = omega / C0;
     let m_real: f64 = integrals
         .region_e2
         .iter()
@@ -280,4 +275,47 @@ pub fn mode_q(
         load_power_fraction,
         load_energy_fraction,
     }
+}
+
+/// Q parts of an eigenmode whose port amplitudes come from the eigenvector computed
+/// with β at the target, matched to its refined eigenvalue; returns the matched Q parts
+/// and the external Q of each port from the unmatched power balance (a consistency
+/// figure: with the target at the mode's frequency the two agree).
+///
+/// The refined eigenvalue is accurate to second order, the amplitudes only to first.
+/// So the total port damping is taken from the eigenvalue (1/Q_ext = 1/Q_eigen − 1/Q_d,
+/// exact for the linear problem) and shared among the ports as the power balance shares
+/// it. The matching is skipped when the subtraction is not meaningful (port damping lost
+/// in the dielectric one, or a factor outside [1/2, 2]).
+pub fn eigen_matched_q(
+    freq_hz: f64,
+    integrals: &ModeIntegrals,
+    materials: &[RegionMaterial],
+    wall_conductivity: Option<f64>,
+    ports: &mut [PortPower],
+    q_eigen: f64,
+) -> (ModeQ, Vec<f64>) {
+    let mut q = mode_q(freq_hz, integrals, materials, wall_conductivity, ports);
+    let q_ports_balance = q.q_ports.clone();
+    let inv_ext_balance: f64 = q
+        .q_ports
+        .iter()
+        .map(|&x| 1.0 / x)
+        .filter(|x| x.is_finite())
+        .sum();
+    if !ports.is_empty() && q_eigen.is_finite() && inv_ext_balance > 0.0 {
+        let inv_d = if q.q_dielectric.is_finite() {
+            1.0 / q.q_dielectric
+        } else {
+            0.0
+        };
+        let scale = (1.0 / q_eigen - inv_d) / inv_ext_balance;
+        if (0.5..=2.0).contains(&scale) {
+            for p in ports.iter_mut() {
+                p.amplitude2_norm *= scale;
+            }
+            q = mode_q(freq_hz, integrals, materials, wall_conductivity, ports);
+        }
+    }
+    (q, q_ports_balance)
 }

@@ -5,8 +5,8 @@
 //! edges, so PEC is imposed exactly by dropping the unknowns of boundary edges and faces.
 //! Unknowns are numbered edge by edge (kinds of one edge consecutive), then face by face.
 
-use crate::element::{Entity, NedelecOrder, NedelecTet};
-use crate::topology::Topology;
+use crate::fem::element::{Entity, NedelecOrder, NedelecTet};
+use crate::fem::topology::Topology;
 use antinode_mesh::BoundaryTag;
 
 /// Marker for a local function whose unknown was eliminated (PEC).

@@ -5,16 +5,18 @@
 //!
 //! so that the lossy mass matrix is M = M′ − j M″ (εr = ε′ − jε″). All three share one
 //! sparsity pattern (unknowns coupled through a common tetrahedron), stored as CSR with
-//! `u32` indices; the matrices are symmetric and stored in full.
+//! `u32` indices; the matrices are symmetric and stored in full. Element matrices come
+//! from [`crate::fem::element`]; the values are scattered into a pattern built first
+//! (unknowns coupled through a common tetrahedron), so the fill-reducing ordering,
+//! which needs only the pattern, can run alongside the element loop.
 
-use crate::dofmap::{DofMap, FIXED};
-use crate::element::{NedelecTet, TetGeometry};
-use crate::topology::Topology;
-use antinode_mesh::TetMesh;
+use crate::fem::dofmap::{DofMap, FIXED};
+use crate::fem::element::NedelecTet;
+use crate::fem::Space;
+use crate::linalg::dot;
+use crate::linalg::sparse::{spmv, SparseMatrix};
+use faer::c64;
 use rayon::prelude::*;
-
-/// Sparse symmetric matrix in CSR form (full storage).
-pub type SparseMatrix = sprs::CsMatI<f64, u32, u32>;
 
 /// Material constants of one region at the solve frequency.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -105,13 +107,8 @@ fn pattern(dofs: &DofMap) -> (Vec<u32>, Vec<u32>) {
 }
 
 /// Assemble K, M′ and (if any region is lossy) M″. `materials[region id]`.
-pub fn assemble(
-    mesh: &TetMesh,
-    topo: &Topology,
-    dofs: &DofMap,
-    materials: &[RegionMaterial],
-) -> SystemMatrices {
-    assemble_alongside(mesh, topo, dofs, materials, |_, _| ()).0
+pub fn assemble(space: &Space<'_>, materials: &[RegionMaterial]) -> SystemMatrices {
+    assemble_alongside(space, materials, |_, _| ()).0
 }
 
 /// [`assemble`], running `alongside` on the sparsity pattern (CSR row pointers, sorted
@@ -119,29 +116,26 @@ pub fn assemble(
 /// the fill-reducing ordering needs only the pattern and runs on one core, so it
 /// overlaps the parallel element loop instead of following it.
 pub fn assemble_alongside<R: Send>(
-    mesh: &TetMesh,
-    topo: &Topology,
-    dofs: &DofMap,
+    space: &Space<'_>,
     materials: &[RegionMaterial],
     alongside: impl FnOnce(&[u32], &[u32]) -> R + Send,
 ) -> (SystemMatrices, R) {
-    let (indptr, indices) = pattern(dofs);
+    let (indptr, indices) = pattern(&space.dofs);
     let (r, matrices) = rayon::join(
         || alongside(&indptr, &indices),
-        || fill(mesh, topo, dofs, materials, &indptr, &indices),
+        || fill(space, materials, &indptr, &indices),
     );
     (matrices, r)
 }
 
 /// The values of K, M′ and M″ on the given pattern.
 fn fill(
-    mesh: &TetMesh,
-    topo: &Topology,
-    dofs: &DofMap,
+    space: &Space<'_>,
     materials: &[RegionMaterial],
     indptr: &[u32],
     indices: &[u32],
 ) -> SystemMatrices {
+    let (mesh, dofs) = (space.mesh, &space.dofs);
     let element = NedelecTet::new(dofs.order);
     let nl = element.len();
     let n = dofs.n_dofs;
@@ -158,16 +152,14 @@ fn fill(
     let row_bounds: Vec<usize> = (0..=n_parts).map(|p| p * n / n_parts).collect();
     let mut buf_k = vec![0.0; CHUNK * nl * nl];
     let mut buf_m = vec![0.0; CHUNK * nl * nl];
-    for start in (0..topo.n_tets()).step_by(CHUNK) {
-        let end = (start + CHUNK).min(topo.n_tets());
+    for start in (0..space.n_tets()).step_by(CHUNK) {
+        let end = (start + CHUNK).min(space.n_tets());
         buf_k[..(end - start) * nl * nl]
             .par_chunks_mut(nl * nl)
             .zip(buf_m[..(end - start) * nl * nl].par_chunks_mut(nl * nl))
             .enumerate()
             .for_each(|(i, (ke, me))| {
-                let t = start + i;
-                let x = topo.tets[t].map(|v| mesh.nodes[v as usize]);
-                let geo = TetGeometry::new(x);
+                let geo = space.tet_geometry(start + i);
                 element.matrices(&geo, ke, me);
             });
         // Split value arrays by row ranges so each part owns its rows' values.
@@ -246,68 +238,59 @@ fn split_by_rows<'a>(vals: &'a mut [f64], indptr: &[u32], bounds: &[usize]) -> V
     out
 }
 
-/// y = A x for a CSR matrix, parallel over rows.
-pub fn spmv(a: &SparseMatrix, x: &[f64], y: &mut [f64]) {
-    let indptr = a.indptr();
-    let indptr = indptr.raw_storage();
-    let idx = a.indices();
-    let val = a.data();
-    y.par_iter_mut()
-        .enumerate()
-        .with_min_len(256)
-        .for_each(|(r, yr)| {
-            let (s, e) = (indptr[r] as usize, indptr[r + 1] as usize);
-            let mut acc = 0.0;
-            for p in s..e {
-                acc += val[p] * x[idx[p] as usize];
-            }
-            *yr = acc;
-        });
-}
-
-/// Y = A X for a CSR matrix and a block of columns, parallel over rows. The block is
-/// gathered row-wise first so that each stored entry of A is read once for all columns
-/// (one pass over A instead of one per column).
-pub fn spmm(a: &SparseMatrix, x: faer::MatRef<'_, f64>, mut y: faer::MatMut<'_, f64>) {
-    let (n, k) = (x.nrows(), x.ncols());
-    assert_eq!(
-        a.cols(),
-        n,
-        "spmm: A has {} columns, X {} rows",
-        a.cols(),
-        n
-    );
-    assert_eq!((y.nrows(), y.ncols()), (a.rows(), k), "spmm: output shape");
-    if k == 0 {
-        return;
+impl SystemMatrices {
+    /// Whether some region is lossy (M″ present).
+    pub fn is_lossy(&self) -> bool {
+        self.mass_imag.is_some()
     }
-    let mut xt = vec![0.0; n * k];
-    xt.par_chunks_mut(k)
-        .with_min_len(1024)
-        .enumerate()
-        .for_each(|(i, row)| {
-            for (j, v) in row.iter_mut().enumerate() {
-                *v = x[(i, j)];
-            }
-        });
-    let indptr = a.indptr();
-    let indptr = indptr.raw_storage();
-    let (idx, val) = (a.indices(), a.data());
-    let mut yt = vec![0.0; a.rows() * k];
-    yt.par_chunks_mut(k)
-        .with_min_len(256)
-        .enumerate()
-        .for_each(|(r, out)| {
-            for p in indptr[r] as usize..indptr[r + 1] as usize {
-                let (v, c) = (val[p], idx[p] as usize);
-                for (o, &xv) in out.iter_mut().zip(&xt[c * k..(c + 1) * k]) {
-                    *o += v * xv;
+
+    /// Order of the matrices.
+    pub fn n(&self) -> usize {
+        self.stiffness.rows()
+    }
+
+    /// M x for M = M′ − jM″ and x = xr + j xi (an empty `xi` is a real x), as real and
+    /// imaginary parts (the imaginary part empty when both x and M are real); `t` is
+    /// scratch of the matrices' order.
+    pub fn mass_times(&self, xr: &[f64], xi: &[f64], t: &mut [f64]) -> (Vec<f64>, Vec<f64>) {
+        let n = xr.len();
+        let mut yr = vec![0.0; n];
+        spmv(&self.mass_real, xr, &mut yr);
+        if xi.is_empty() && self.mass_imag.is_none() {
+            return (yr, Vec::new());
+        }
+        let mut yi = vec![0.0; n];
+        if !xi.is_empty() {
+            spmv(&self.mass_real, xi, &mut yi);
+        }
+        if let Some(mi) = &self.mass_imag {
+            if !xi.is_empty() {
+                spmv(mi, xi, t);
+                for i in 0..n {
+                    yr[i] += t[i];
                 }
             }
-        });
-    for j in 0..k {
-        for (i, row) in yt.chunks_exact(k).enumerate() {
-            y[(i, j)] = row[j];
+            spmv(mi, xr, t);
+            for i in 0..n {
+                yi[i] -= t[i];
+            }
         }
+        (yr, yi)
+    }
+
+    /// The unconjugated bilinear form xᵀ M x for M = M′ − jM″ (the normalisation of a
+    /// complex symmetric pencil, whose left eigenvector is x itself).
+    pub fn mass_bilinear(&self, xr: &[f64], xi: &[f64]) -> c64 {
+        let mut t = vec![0.0; xr.len()];
+        let (yr, yi) = self.mass_times(xr, xi, &mut t);
+        let re = dot(xr, &yr)
+            - if xi.is_empty() || yi.is_empty() {
+                0.0
+            } else {
+                dot(xi, &yi)
+            };
+        let im = (if yi.is_empty() { 0.0 } else { dot(xr, &yi) })
+            + if xi.is_empty() { 0.0 } else { dot(xi, &yr) };
+        c64::new(re, im)
     }
 }

@@ -18,11 +18,15 @@
 //! a single complex diagonal entry per port. The time-average power carried away is
 //! P = (β / 2ωμ0) N |c|² (propagating case).
 
-use crate::dofmap::{DofMap, FIXED};
-use crate::element::{dot3, face_normal_area, NedelecTet, TetGeometry, FACES};
-use crate::topology::Topology;
-use antinode_mesh::geometry::{CavityShape, Geometry, PortWall};
-use antinode_mesh::{BoundaryTag, TetMesh};
+use crate::fem::assembly::SystemMatrices;
+use crate::fem::dofmap::FIXED;
+use crate::fem::element::{NedelecTet, FACES};
+use crate::fem::tet_geometry::face_normal_area;
+use crate::fem::topology::Topology;
+use crate::fem::Space;
+use crate::linalg::sparse::{spmv, SparseMatrix};
+use antinode_mesh::tet_mesh::dot as dot3;
+use antinode_mesh::BoundaryTag;
 use faer::c64;
 use faer::linalg::solvers::Solve;
 
@@ -72,70 +76,6 @@ impl PortFrame {
     }
 }
 
-/// Frames of the geometry's ports, in file order.
-pub fn port_frames(geom: &Geometry) -> Vec<PortFrame> {
-    let mm = 1e-3;
-    geom.ports
-        .iter()
-        .map(|p| {
-            let (center, e0, e1, n) = match (p.wall, geom.cavity.shape) {
-                (PortWall::BoxWall { axis, positive }, CavityShape::Box { size }) => {
-                    let [a0, a1] = PortWall::box_in_plane_axes(axis);
-                    let mut c = [0.0; 3];
-                    c[axis] = if positive { size[axis] } else { 0.0 };
-                    c[a0] = p.center[0];
-                    c[a1] = p.center[1];
-                    let mut e0 = [0.0; 3];
-                    e0[a0] = 1.0;
-                    let mut e1 = [0.0; 3];
-                    e1[a1] = 1.0;
-                    let mut n = [0.0; 3];
-                    n[axis] = if positive { 1.0 } else { -1.0 };
-                    (c, e0, e1, n)
-                }
-                (PortWall::Top, CavityShape::Cylinder { height, .. }) => (
-                    [p.center[0], p.center[1], height],
-                    [1.0, 0.0, 0.0],
-                    [0.0, 1.0, 0.0],
-                    [0.0, 0.0, 1.0],
-                ),
-                (PortWall::Bottom, _) => (
-                    [p.center[0], p.center[1], 0.0],
-                    [1.0, 0.0, 0.0],
-                    [0.0, 1.0, 0.0],
-                    [0.0, 0.0, -1.0],
-                ),
-                (PortWall::Side { angle_deg }, CavityShape::Cylinder { radius, .. }) => {
-                    let phi = angle_deg.to_radians() + p.center[0] / radius;
-                    let (s, c) = phi.sin_cos();
-                    (
-                        [radius * c, radius * s, p.center[1]],
-                        [-s, c, 0.0],
-                        [0.0, 0.0, 1.0],
-                        [c, s, 0.0],
-                    )
-                }
-                // Validation rejects ports on walls of the other cavity shape.
-                (_, _) => (
-                    [p.center[0], p.center[1], 0.0],
-                    [1.0, 0.0, 0.0],
-                    [0.0, 1.0, 0.0],
-                    [0.0, 0.0, -1.0],
-                ),
-            };
-            let (u, v) = if p.rotated { (e1, e0) } else { (e0, e1) };
-            PortFrame {
-                center: center.map(|x| x * mm),
-                u,
-                v,
-                n,
-                width: p.width * mm,
-                height: p.height * mm,
-            }
-        })
-        .collect()
-}
-
 /// The TE10 constraint of every port: which free unknowns lie on the aperture and the
 /// coefficients t of the TE10 pattern in them.
 #[derive(Clone, Debug)]
@@ -162,12 +102,8 @@ fn port_faces(topo: &Topology, port: usize) -> Vec<(usize, usize)> {
 }
 
 /// Build the TE10 constraint of each port by L2 projection on its aperture.
-pub fn port_constraint(
-    mesh: &TetMesh,
-    topo: &Topology,
-    dofs: &DofMap,
-    frames: &[PortFrame],
-) -> PortConstraint {
+pub fn port_constraint(space: &Space<'_>, frames: &[PortFrame]) -> PortConstraint {
+    let (topo, dofs) = (&space.topology, &space.dofs);
     let element = NedelecTet::new(dofs.order);
     let nl = element.len();
     let mut entries = Vec::new();
@@ -191,8 +127,8 @@ pub fn port_constraint(
         let mut fl = vec![0.0; nl];
         let mut exact_norm = 0.0;
         for &(t, lf) in &faces {
-            let x = topo.tets[t].map(|v| mesh.nodes[v as usize]);
-            let geo = TetGeometry::new(x);
+            let x = space.tet_vertices(t);
+            let geo = space.tet_geometry(t);
             let (i, j, k) = FACES[lf];
             let (normal, area) = face_normal_area(&x, lf);
             element.face_matrices(&geo, lf, area, normal, &mut fm, &mut fc);
@@ -321,9 +257,71 @@ impl Reduction {
     /// x = T y.
     pub fn expand(&self, y: &[f64]) -> Vec<f64> {
         let mut x = vec![0.0; self.n_full];
-        crate::assembly::spmv(&self.t, y, &mut x);
+        spmv(&self.t, y, &mut x);
         x
+    }
+
+    /// Tᵀ K T, Tᵀ M′ T and Tᵀ M″ T.
+    pub fn reduce_system(&self, m: &SystemMatrices) -> SystemMatrices {
+        SystemMatrices {
+            stiffness: self.reduce(&m.stiffness),
+            mass_real: self.reduce(&m.mass_real),
+            mass_imag: m.mass_imag.as_ref().map(|mi| self.reduce(mi)),
+        }
     }
 }
 
-use crate::assembly::SparseMatrix;
+/// The port boundary terms jβ_p(k0) N_p of the weak form on the amplitude unknowns
+/// `base + p` of the reduced system (see the module docs), at wavenumber k0.
+#[derive(Clone, Debug, PartialEq)]
+pub struct PortTerms {
+    /// Index of the first port amplitude among the reduced unknowns.
+    pub base: usize,
+    /// jβ_p at the wavenumber the terms were built for.
+    pub jbeta: Vec<c64>,
+    /// N_p, the aperture norm of each port's TE10 trace.
+    pub norm: Vec<f64>,
+}
+
+impl PortTerms {
+    /// The terms of `frames` with the aperture norms of `constraint` at `k0` (m⁻¹); the
+    /// amplitudes start at unknown `base` (see [`Reduction::port_base`]).
+    pub fn new(frames: &[PortFrame], constraint: &PortConstraint, base: usize, k0: f64) -> Self {
+        Self {
+            base,
+            jbeta: frames
+                .iter()
+                .map(|f| c64::new(0.0, 1.0) * f.beta(k0))
+                .collect(),
+            norm: constraint.norm.clone(),
+        }
+    }
+
+    /// No ports: no terms (`base` = the order of the system).
+    pub fn none(base: usize) -> Self {
+        Self {
+            base,
+            jbeta: Vec::new(),
+            norm: Vec::new(),
+        }
+    }
+
+    /// Number of ports.
+    pub fn len(&self) -> usize {
+        self.jbeta.len()
+    }
+
+    /// Whether there are no ports.
+    pub fn is_empty(&self) -> bool {
+        self.jbeta.is_empty()
+    }
+
+    /// Largest |jβ_p| N_p: the ports' share of ‖K + jβP‖ in the residual normalisation.
+    pub fn largest(&self) -> f64 {
+        self.jbeta
+            .iter()
+            .zip(&self.norm)
+            .map(|(b, nn)| b.norm() * nn)
+            .fold(0.0, f64::max)
+    }
+}

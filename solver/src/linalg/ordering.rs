@@ -9,7 +9,7 @@
 //! degree on these matrices: measured on an order-2 box, 140k unknowns, factor entries
 //! 151M with minimum degree, 238M with a median-plane geometric dissection.
 
-use crate::assembly::SparseMatrix;
+use crate::linalg::sparse::SparseMatrix;
 use metis_sys::{idx_t, METIS_NodeND, METIS_SetDefaultOptions, METIS_NOPTIONS};
 use std::sync::Mutex;
 
@@ -17,7 +17,7 @@ use std::sync::Mutex;
 /// state array), so two calls running at once race on it: the orderings then depend on
 /// thread timing and the C code reads and writes shared memory unsynchronised. Every
 /// call in this crate holds this lock. (To use both cores, callers overlap the ordering
-/// with other work instead; see `assembly::assemble_alongside`.)
+/// with other work instead; see `crate::fem::assembly::assemble_alongside`.)
 static METIS_LOCK: Mutex<()> = Mutex::new(());
 
 /// A nested-dissection permutation of the unknowns of `a` (symmetric pattern): see

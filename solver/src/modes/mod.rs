@@ -1,0 +1,380 @@
+//! Resonant modes of a cavity: the library entry point [`solve_modes`].
+//!
+//! The pipeline is a short list of stages, each callable on its own (a driven response
+//! reuses the first four with its own right-hand side):
+//!
+//! 1. space: topology and unknowns with the PEC walls eliminated ([`Space`]);
+//! 2. assembly: K, M′, M″, the port constraints and the reduced system
+//!    ([`system::PortedSystem`]), with the fill-reducing ordering;
+//! 3. operator: the shifted matrix at σ = k0²(target), factorised
+//!    ([`operator::RefinedFactor`], [`operator::ComplexFactor`]);
+//! 4. iteration: block Krylov–Schur on the shift-invert operator
+//!    ([`crate::linalg::eigen`]);
+//! 5. checks: residual, per-mode β refinement, divergence, normalisation
+//!    ([`checks`]);
+//! 6. losses: field integrals, Q parts and power split ([`crate::post::losses`]);
+//! 7. selection: band, count and degenerate groups ([`select`]).
+//!
+//! * Lossless cavity without ports: K x = λ M′ x is real symmetric; the M-symmetric
+//!   iteration runs on (K − σM′)⁻¹M′.
+//! * Lossy loads (ε″ > 0) or ports: (K + jβP) x = λ (M′ − jM″) x is complex symmetric;
+//!   the iteration runs on A⁻¹M with A = K + jβP − σ(M′ − jM″) factorised through its
+//!   real 2n form, in complex arithmetic with the Euclidean inner product. β is taken at
+//!   the target and refined per mode ([`checks`]).
+//!
+//! Each returned mode carries k0² and f = c k0 / 2π, its relative residual, its
+//! divergence figure (fields above [`SPURIOUS_DIVERGENCE`] are dropped and counted),
+//! normalised coefficients, field integrals and Q parts.
+
+pub mod checks;
+pub mod operator;
+pub mod select;
+pub mod settings;
+pub mod system;
+
+pub use checks::{CheckedMode, SPURIOUS_DIVERGENCE};
+pub use select::{BAND_MARGIN, COUNT_MARGIN, DEGENERATE_REL};
+pub use settings::{ModeSettings, Stage};
+
+use crate::constants::wavenumber;
+use crate::error::SolverError;
+use crate::fem::assembly::{RegionMaterial, SystemMatrices};
+use crate::fem::port::{PortConstraint, PortTerms};
+use crate::fem::Space;
+use crate::linalg::eigen::{self, KrylovOperator, KrylovScalar, RitzPairs};
+use crate::post::field::{mode_fields, ModeFields};
+use crate::post::losses::{eigen_matched_q, mode_integrals, ModeIntegrals, ModeQ, PortPower};
+use antinode_mesh::TetMesh;
+use checks::{check_all, complex_raw_modes, real_raw_modes, CheckContext, RawMode, ResidualScale};
+use faer::Par;
+use operator::{
+    shifted_complex, shifted_real, ComplexFactor, ComplexShiftInvert, RealShiftInvert,
+    RefinedFactor,
+};
+use select::{select, Search};
+use std::time::Instant;
+use system::{order_matrix, PortedSystem, TimedOrdering};
+
+/// One resonant mode.
+#[derive(Clone, Debug)]
+pub struct Mode {
+    /// Re k0², m⁻² (k0 = ω/c).
+    pub k0_squared: f64,
+    /// Im k0² (> 0 for a decaying mode with the e^{jωt} convention; 0 when lossless).
+    pub k0_squared_imag: f64,
+    /// Resonant frequency Re f, Hz.
+    pub frequency_hz: f64,
+    /// Im f, Hz (decay rate / 2π).
+    pub frequency_imag_hz: f64,
+    /// Q from the complex eigenvalue, Re f/(2 Im f) (loads and ports; infinite when
+    /// lossless). Wall losses are added by perturbation in `q`.
+    pub q_eigen: f64,
+    /// Relative residual of the (linear, β at target) discrete eigenproblem.
+    pub residual: f64,
+    /// Divergence figure ‖Gᵀ M x‖ / ‖M x‖.
+    pub divergence: f64,
+    /// Real part of the coefficients of E over the free unknowns, normalised to
+    /// ∫ ε′ |E|² dV = 1 m³ (E in V/m, lengths in m), phase chosen so that the largest
+    /// coefficient is real.
+    pub coefficients: Vec<f64>,
+    /// Imaginary part of the coefficients (empty when the mode is real).
+    pub coefficients_imag: Vec<f64>,
+    /// Field integrals (per-region ∫|E|², wall ∮|n×∇×E|²).
+    pub integrals: ModeIntegrals,
+    /// Q parts and power split.
+    pub q: ModeQ,
+    /// External Q of each port from the power balance with the eigenvector's own aperture
+    /// amplitudes, before they are matched to the refined eigenvalue (see
+    /// [`crate::post::losses::eigen_matched_q`]); with the target at the mode's frequency these equal `q.q_ports`.
+    /// Kept as an independent consistency check.
+    pub q_ports_balance: Vec<f64>,
+}
+
+/// Figures of one solve.
+#[derive(Clone, Debug, Default)]
+pub struct SolveStats {
+    /// Unknowns of the eigenproblem (after port constraints).
+    pub n_dofs: usize,
+    /// Whether the complex (lossy or fed) path was used.
+    pub complex: bool,
+    pub matrix_nnz: usize,
+    pub factor_nnz: usize,
+    /// Assembly (topology, unknown numbering, matrices, port reduction), wall time.
+    pub assembly_s: f64,
+    /// Fill-reducing ordering (nested dissection) of the shifted matrix. Without ports it
+    /// runs on one core during assembly, so it overlaps `assembly_s`.
+    pub ordering_s: f64,
+    pub factor_s: f64,
+    pub eigen_s: f64,
+    /// Post-processing: residuals, divergence checks, normalisation, Q and power split.
+    pub checks_s: f64,
+    pub applications: usize,
+    pub restarts: usize,
+    pub spurious_dropped: usize,
+    /// Radius (m⁻², in k0² = λ) of the disc around σ in the complex λ plane inside which
+    /// every eigenvalue was found: the band radius for a band search, else the distance of
+    /// the farthest converged mode. A mode with Re f in a band but strong damping
+    /// (Im λ ≈ Re λ / Q) lies outside the disc when Q is small; callers can turn this
+    /// into the Q above which a band listing is complete.
+    pub search_radius: f64,
+}
+
+impl Mode {
+    /// E at the vertices, H and the heating density at the cells, for 1 J of stored
+    /// energy ([`crate::post::field::mode_fields`]).
+    pub fn fields(&self, space: &Space<'_>, materials: &[RegionMaterial]) -> ModeFields {
+        mode_fields(
+            space,
+            &self.coefficients,
+            &self.coefficients_imag,
+            [self.frequency_hz, self.frequency_imag_hz],
+            materials,
+        )
+    }
+}
+
+/// Modes sorted by frequency, with the space they live on and the solve figures.
+pub struct ModeSet<'m> {
+    pub modes: Vec<Mode>,
+    pub stats: SolveStats,
+    /// The finite-element space of the coefficients (mesh, topology, unknowns).
+    pub space: Space<'m>,
+    /// K, M′, M″ on the space's free unknowns.
+    pub matrices: SystemMatrices,
+    /// TE10 constraints of the ports (None without ports).
+    pub ports: Option<PortConstraint>,
+}
+
+/// Find the resonant modes of a cavity with its loads, walls and ports.
+pub fn solve_modes<'m>(
+    mesh: &'m TetMesh,
+    materials: &[RegionMaterial],
+    settings: &ModeSettings,
+    progress: &mut dyn FnMut(Stage),
+) -> Result<ModeSet<'m>, SolverError> {
+    settings.validate(mesh, materials)?;
+    progress(Stage::Topology);
+    let t0 = Instant::now();
+    let space = Space::with_ports(mesh, settings.order, settings.ports.len());
+    if space.n_dofs() == 0 {
+        return Err(SolverError::NoUnknowns);
+    }
+    progress(Stage::Assembly {
+        n_dofs: space.n_dofs(),
+    });
+    let (system, early_ordering) = PortedSystem::assemble(&space, materials, &settings.ports);
+    let assembly_s = t0.elapsed().as_secs_f64();
+    let search = Search::new(settings);
+    let sys = system.matrices();
+    let complex = sys.is_lossy() || !settings.ports.is_empty();
+    let ports = system.port_terms(&settings.ports, search.k_target);
+    // Measured on 2 cores: the sequential supernodal kernels beat the threaded ones here,
+    // and the tall-skinny dense products of the eigen iteration lose more to thread
+    // barriers than they gain (~30 % of the iteration time in synchronisation), so faer
+    // runs sequentially; rayon parallelises assembly, sparse products, the block solves
+    // (over subtrees) and the dense products (over rows).
+    faer::set_global_parallelism(Par::Seq);
+    progress(Stage::Factorization {
+        n_dofs: sys.n(),
+        nnz: sys.stiffness.nnz(),
+    });
+    let ordering = early_ordering.unwrap_or_else(|| order_matrix(&sys.stiffness));
+    let scale = ResidualScale::new(sys);
+    let run = if complex {
+        eigen_complex(sys, &ports, &search, &ordering, settings, scale, progress)?
+    } else {
+        eigen_real(sys, &search, &ordering, settings, scale, progress)?
+    };
+
+    progress(Stage::Checks);
+    let t_checks = Instant::now();
+    let ctx = CheckContext {
+        space: &space,
+        system: &system,
+        frames: &settings.ports,
+        ports: &ports,
+        k_target: search.k_target,
+    };
+    let checked = check_all(run.raw, &ctx);
+    let spurious_dropped = checked.iter().filter(|c| c.is_none()).count();
+    let modes = with_losses(
+        &space,
+        checked.into_iter().flatten().collect(),
+        materials,
+        settings,
+        &ports,
+    );
+    let search_radius = search.radius(&modes);
+    let modes = select(modes, settings);
+    let stats = SolveStats {
+        n_dofs: system.matrices().n(),
+        complex,
+        matrix_nnz: system.matrices().stiffness.nnz(),
+        factor_nnz: run.factor_nnz,
+        assembly_s,
+        ordering_s: ordering.seconds,
+        factor_s: run.factor_s,
+        eigen_s: run.eigen_s,
+        checks_s: t_checks.elapsed().as_secs_f64(),
+        applications: run.applications,
+        restarts: run.restarts,
+        spurious_dropped,
+        search_radius,
+    };
+    let (matrices, ports) = system.into_full();
+    Ok(ModeSet {
+        modes,
+        stats,
+        space,
+        matrices,
+        ports,
+    })
+}
+
+/// What the factorisation and the iteration produced.
+struct EigenRun {
+    raw: Vec<RawMode>,
+    /// Building and factorising the shifted matrix, seconds.
+    factor_s: f64,
+    eigen_s: f64,
+    factor_nnz: usize,
+    applications: usize,
+    restarts: usize,
+}
+
+/// The iteration on `op`, timed.
+fn iterate<T: KrylovScalar, O: KrylovOperator<T>>(
+    op: &O,
+    search: &Search,
+    settings: &ModeSettings,
+    progress: &mut dyn FnMut(Stage),
+) -> Result<(RitzPairs<T>, f64), SolverError> {
+    let t = Instant::now();
+    let ritz = eigen::solve(op, search.wanted, &settings.eigen, &mut |p| {
+        progress(Stage::Eigen(p))
+    })?;
+    Ok((ritz, t.elapsed().as_secs_f64()))
+}
+
+/// Real path: factorise K − σM′, iterate on (K − σM′)⁻¹M′.
+fn eigen_real(
+    sys: &SystemMatrices,
+    search: &Search,
+    ordering: &TimedOrdering,
+    settings: &ModeSettings,
+    scale: ResidualScale,
+    progress: &mut dyn FnMut(Stage),
+) -> Result<EigenRun, SolverError> {
+    let t1 = Instant::now();
+    let factor = RefinedFactor::new(
+        shifted_real(sys, search.sigma),
+        settings.factor,
+        ordering.permutation.as_ref(),
+        settings.refine,
+    )?;
+    let factor_s = t1.elapsed().as_secs_f64();
+    let factor_nnz = factor.factor_nnz();
+    let op = RealShiftInvert {
+        factor,
+        mass: &sys.mass_real,
+    };
+    let (ritz, eigen_s) = iterate(&op, search, settings, progress)?;
+    drop(op);
+    Ok(EigenRun {
+        raw: real_raw_modes(&ritz, search.sigma, sys, scale),
+        factor_s,
+        eigen_s,
+        factor_nnz,
+        applications: ritz.applications,
+        restarts: ritz.restarts,
+    })
+}
+
+/// Complex path: factorise K + jβP − σ(M′ − jM″) in its 2n form, iterate on
+/// A⁻¹(M′ − jM″).
+fn eigen_complex(
+    sys: &SystemMatrices,
+    ports: &PortTerms,
+    search: &Search,
+    ordering: &TimedOrdering,
+    settings: &ModeSettings,
+    scale: ResidualScale,
+    progress: &mut dyn FnMut(Stage),
+) -> Result<EigenRun, SolverError> {
+    let t1 = Instant::now();
+    let factor = ComplexFactor::new(
+        shifted_complex(sys, search.sigma, ports),
+        settings.factor,
+        ordering.permutation.as_ref(),
+        settings.refine,
+    )?;
+    let factor_s = t1.elapsed().as_secs_f64();
+    let factor_nnz = factor.real_form.factor_nnz();
+    let op = ComplexShiftInvert {
+        factor,
+        m_re: &sys.mass_real,
+        m_im: sys.mass_imag.as_ref(),
+    };
+    let (ritz, eigen_s) = iterate(&op, search, settings, progress)?;
+    let parts = op.factor.parts;
+    Ok(EigenRun {
+        raw: complex_raw_modes(&ritz, search.sigma, &parts.re, &parts.im, sys, ports, scale),
+        factor_s,
+        eigen_s,
+        factor_nnz,
+        applications: ritz.applications,
+        restarts: ritz.restarts,
+    })
+}
+
+/// Field integrals, Q parts and power split of the checked modes (one pass over the
+/// mesh for all of them).
+fn with_losses(
+    space: &Space<'_>,
+    kept: Vec<CheckedMode>,
+    materials: &[RegionMaterial],
+    settings: &ModeSettings,
+    ports: &PortTerms,
+) -> Vec<Mode> {
+    let inputs: Vec<(&[f64], &[f64])> = kept
+        .iter()
+        .map(|k| (k.re.as_slice(), k.im.as_slice()))
+        .collect();
+    let integrals = mode_integrals(space, &inputs);
+    kept.into_iter()
+        .zip(integrals)
+        .map(|(c, integrals)| {
+            let mut powers: Vec<PortPower> = settings
+                .ports
+                .iter()
+                .enumerate()
+                .map(|(p, fr)| PortPower {
+                    amplitude2_norm: c.amplitudes[p].norm_sqr() * ports.norm[p],
+                    beta: fr.beta(wavenumber(c.freq.re)).re,
+                })
+                .collect();
+            let (q, q_ports_balance) = eigen_matched_q(
+                c.freq.re,
+                &integrals,
+                materials,
+                settings.wall_conductivity,
+                &mut powers,
+                c.q_eigen,
+            );
+            Mode {
+                k0_squared: c.lambda.re,
+                k0_squared_imag: c.lambda.im,
+                frequency_hz: c.freq.re,
+                frequency_imag_hz: c.freq.im,
+                q_eigen: c.q_eigen,
+                residual: c.residual,
+                divergence: c.divergence,
+                coefficients: c.re,
+                coefficients_imag: c.im,
+                integrals,
+                q,
+                q_ports_balance,
+            }
+        })
+        .collect()
+}
