@@ -13,7 +13,7 @@ use antinode_solver::{solve_modes, ModeSet, ModeSettings};
 use std::f64::consts::PI;
 use std::time::Instant;
 
-/// Structured grid mesh (five tetrahedra per cell) of the box [0,a]×[0,b]×[0,d] with
+/// Structured grid mesh (five tetrahedra per cell) of the box `[0,a]×[0,b]×[0,d]` with
 /// `n[i]` cells per direction, one region ("air").
 pub fn box_mesh(size: [f64; 3], n: [usize; 3]) -> TetMesh {
     let grid = GridLines::uniform([0.0; 3], size, n);

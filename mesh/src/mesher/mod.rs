@@ -3,11 +3,11 @@
 //!
 //! Design: every shape the geometry file can describe is a vertical prism (a footprint
 //! times a z-range), so the mesh is a 2-D constrained Delaunay mesh of the cross-section
-//! ([`planar`]) extruded in z-layers ([`extrude`]). All load footprints and port outlines
-//! are edges of the 2-D mesh ([`outline`]) and all load tops/bottoms and port z-edges are
+//! (`planar`) extruded in z-layers (`extrude`). All load footprints and port outlines
+//! are edges of the 2-D mesh (`outline`) and all load tops/bottoms and port z-edges are
 //! layer planes, so material interfaces and port rectangles are unions of element faces
 //! by construction, with no 3-D geometric predicates to go wrong. Sizes follow the local
-//! wavelength and are graded smoothly away from fine loads ([`sizing`]).
+//! wavelength and are graded smoothly away from fine loads (`sizing`).
 //!
 //! The price: the cross-section is as fine everywhere above and below a load as in the
 //! load, and layers as thin across the whole cavity as in the finest load at that

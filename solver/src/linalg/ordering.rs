@@ -28,7 +28,7 @@ pub fn nested_dissection(a: &SparseMatrix) -> Option<(Vec<u32>, Vec<u32>)> {
 
 /// A nested-dissection permutation of the unknowns of a symmetric sparsity pattern in
 /// CSR form (row pointers, sorted column indices per row): returns (forward, inverse)
-/// with forward[k] = the unknown eliminated k-th and inverse[forward[k]] = k, or None
+/// with `forward[k]` = the unknown eliminated k-th and `inverse[forward[k]] = k`, or None
 /// when the graph is too large for 32-bit indices or the partitioner fails (callers then
 /// fall back to minimum degree).
 ///

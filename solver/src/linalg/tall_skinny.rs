@@ -71,7 +71,7 @@ pub fn column<T>(x: MatRef<'_, T>, j: usize) -> &[T] {
         .as_slice()
 }
 
-/// Mutable [`column`].
+/// Mutable [`column()`].
 pub fn column_mut<T>(x: MatMut<'_, T>, j: usize) -> &mut [T] {
     x.col_mut(j)
         .try_as_col_major_mut()

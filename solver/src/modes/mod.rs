@@ -13,7 +13,7 @@
 //! 5. checks: residual, per-mode β refinement, divergence, normalisation
 //!    ([`checks`]);
 //! 6. losses: field integrals, Q parts and power split ([`crate::post::losses`]);
-//! 7. selection: band, count and degenerate groups ([`select`]).
+//! 7. selection: band, count and degenerate groups ([`mod@select`]).
 //!
 //! * Lossless cavity without ports: K x = λ M′ x is real symmetric; the M-symmetric
 //!   iteration runs on (K − σM′)⁻¹M′.
@@ -242,18 +242,31 @@ struct EigenRun {
     restarts: usize,
 }
 
-/// The iteration on `op`, timed.
-fn iterate<T: KrylovScalar, O: KrylovOperator<T>>(
-    op: &O,
+/// Build and factorise the operator (`build` returns it with its factor's entry count),
+/// then run the iteration on it; both timed. Returns the operator (for what the
+/// residuals need of it) and the run without raw modes.
+fn factor_and_iterate<T: KrylovScalar, O: KrylovOperator<T>>(
+    build: impl FnOnce() -> Result<(O, usize), SolverError>,
     search: &Search,
     settings: &ModeSettings,
     progress: &mut dyn FnMut(Stage),
-) -> Result<(RitzPairs<T>, f64), SolverError> {
+) -> Result<(O, RitzPairs<T>, EigenRun), SolverError> {
+    let t1 = Instant::now();
+    let (op, factor_nnz) = build()?;
+    let factor_s = t1.elapsed().as_secs_f64();
     let t = Instant::now();
-    let ritz = eigen::solve(op, search.wanted, &settings.eigen, &mut |p| {
+    let ritz = eigen::solve(&op, search.wanted, &settings.eigen, &mut |p| {
         progress(Stage::Eigen(p))
     })?;
-    Ok((ritz, t.elapsed().as_secs_f64()))
+    let run = EigenRun {
+        raw: Vec::new(),
+        factor_s,
+        eigen_s: t.elapsed().as_secs_f64(),
+        factor_nnz,
+        applications: ritz.applications,
+        restarts: ritz.restarts,
+    };
+    Ok((op, ritz, run))
 }
 
 /// Real path: factorise K − σM′, iterate on (K − σM′)⁻¹M′.
@@ -265,29 +278,21 @@ fn eigen_real(
     scale: ResidualScale,
     progress: &mut dyn FnMut(Stage),
 ) -> Result<EigenRun, SolverError> {
-    let t1 = Instant::now();
-    let factor = RefinedFactor::new(
-        shifted_real(sys, search.sigma),
-        settings.factor,
-        ordering.permutation.as_ref(),
-        settings.refine,
-    )?;
-    let factor_s = t1.elapsed().as_secs_f64();
-    let factor_nnz = factor.factor_nnz();
-    let op = RealShiftInvert {
-        factor,
-        mass: &sys.mass_real,
+    let build = || {
+        let factor = RefinedFactor::new(
+            shifted_real(sys, search.sigma),
+            settings.factor,
+            ordering.permutation.as_ref(),
+            settings.refine,
+        )?;
+        let nnz = factor.factor_nnz();
+        let mass = &sys.mass_real;
+        Ok((RealShiftInvert { factor, mass }, nnz))
     };
-    let (ritz, eigen_s) = iterate(&op, search, settings, progress)?;
+    let (op, ritz, mut run) = factor_and_iterate(build, search, settings, progress)?;
     drop(op);
-    Ok(EigenRun {
-        raw: real_raw_modes(&ritz, search.sigma, sys, scale),
-        factor_s,
-        eigen_s,
-        factor_nnz,
-        applications: ritz.applications,
-        restarts: ritz.restarts,
-    })
+    run.raw = real_raw_modes(&ritz, search.sigma, sys, scale);
+    Ok(run)
 }
 
 /// Complex path: factorise K + jβP − σ(M′ − jM″) in its 2n form, iterate on
@@ -301,30 +306,21 @@ fn eigen_complex(
     scale: ResidualScale,
     progress: &mut dyn FnMut(Stage),
 ) -> Result<EigenRun, SolverError> {
-    let t1 = Instant::now();
-    let factor = ComplexFactor::new(
-        shifted_complex(sys, search.sigma, ports),
-        settings.factor,
-        ordering.permutation.as_ref(),
-        settings.refine,
-    )?;
-    let factor_s = t1.elapsed().as_secs_f64();
-    let factor_nnz = factor.real_form.factor_nnz();
-    let op = ComplexShiftInvert {
-        factor,
-        m_re: &sys.mass_real,
-        m_im: sys.mass_imag.as_ref(),
+    let build = || {
+        let factor = ComplexFactor::new(
+            shifted_complex(sys, search.sigma, ports),
+            settings.factor,
+            ordering.permutation.as_ref(),
+            settings.refine,
+        )?;
+        let nnz = factor.real_form.factor_nnz();
+        let (m_re, m_im) = (&sys.mass_real, sys.mass_imag.as_ref());
+        Ok((ComplexShiftInvert { factor, m_re, m_im }, nnz))
     };
-    let (ritz, eigen_s) = iterate(&op, search, settings, progress)?;
+    let (op, ritz, mut run) = factor_and_iterate(build, search, settings, progress)?;
     let parts = op.factor.parts;
-    Ok(EigenRun {
-        raw: complex_raw_modes(&ritz, search.sigma, &parts.re, &parts.im, sys, ports, scale),
-        factor_s,
-        eigen_s,
-        factor_nnz,
-        applications: ritz.applications,
-        restarts: ritz.restarts,
-    })
+    run.raw = complex_raw_modes(&ritz, search.sigma, &parts.re, &parts.im, sys, ports, scale);
+    Ok(run)
 }
 
 /// Field integrals, Q parts and power split of the checked modes (one pass over the
