@@ -9,10 +9,12 @@ use crate::output::summary::{
 use crate::output::{csv, json, table, vtk_modes};
 use crate::progress::Spinner;
 use crate::units;
-use antinode_solver::budget;
-use antinode_solver::post::band::{band_figures, GROUP_TOLERANCE, ISM_BAND_HZ};
+use antinode_mesh::{Geometry, TetMesh};
+use antinode_solver::budget::{self, Plan};
+use antinode_solver::modes::SolveStats;
+use antinode_solver::post::band::{band_figures, BandFigures, GROUP_TOLERANCE, ISM_BAND_HZ};
 use antinode_solver::problem::{region_materials, settings_from, weyl_cavity};
-use antinode_solver::{solve_modes, SolverError};
+use antinode_solver::{solve_modes, ModeSet, ModeSettings, RegionMaterial, SolverError};
 use anyhow::{anyhow, bail, Context, Result};
 use clap::{Args, ValueEnum};
 use std::path::PathBuf;
@@ -75,8 +77,124 @@ fn positive(name: &str, v: f64) -> Result<f64> {
 
 pub fn run(args: &ModesArgs) -> Result<()> {
     let mut geom = super::load_geometry(&args.geometry)?;
+    let band_from = apply_overrides(args, &mut geom)?;
+    // The file's order was checked by its parser; an unavailable one here came from --order.
+    let settings = settings_from(&geom).map_err(|e| anyhow!("{e} (--order)"))?;
+    let order = settings.order;
 
-    // Command-line overrides, applied before meshing (target and sizes shape the mesh).
+    let (mesh, mesh_s) = super::mesh::make(&geom)?;
+    let mats = region_materials(&geom, settings.target_hz);
+
+    let (plan, avail) = check_plan(args, &mesh, &mats, &settings)?;
+
+    let spinner = Spinner::start("solving");
+    let result = solve_modes(&mesh, &mats, &settings, &mut |s| spinner.stage(s));
+    spinner.finish();
+    let set = result.map_err(with_hint)?;
+
+    // Rows and band summary. The band is shown in the file's GHz; figures use Hz.
+    let target_ghz = geom.solve.target;
+    let band_explicit = geom.solve.band.is_some();
+    let band = geom.solve.band.unwrap_or(ISM_BAND_HZ.map(|f| f / 1e9));
+    let band_from = band_from.unwrap_or_else(|| {
+        "default ISM band, ITU Radio Regulations No. 5.150; not used to choose modes".into()
+    });
+    let freq_q: Vec<(f64, f64)> = set
+        .modes
+        .iter()
+        .map(|m| (m.frequency_hz, m.q.q_loaded))
+        .collect();
+    let figures = band_figures(
+        &freq_q,
+        settings.band_hz.unwrap_or(ISM_BAND_HZ),
+        settings.target_hz,
+        set.stats.search_radius,
+        weyl_cavity(&geom, &mesh.region_volumes(), &mats),
+    );
+    let load_names: Vec<String> = geom.loads.iter().map(|l| l.name.clone()).collect();
+    let port_names: Vec<String> = geom.ports.iter().map(|p| p.name.clone()).collect();
+    let rows = mode_rows(&set, target_ghz, &figures, &load_names);
+    let in_band_idx = &figures.in_band;
+    let good_coupling = good_couplings(&rows, in_band_idx, &port_names);
+    let q_check_max_relative = rows
+        .iter()
+        .filter_map(|r| r.q_check_relative)
+        .map(f64::abs)
+        .reduce(f64::max);
+    let st = &set.stats;
+    let doc = ModesDoc {
+        geometry: args.geometry.display().to_string(),
+        title: geom.title.clone(),
+        target_ghz,
+        band_ghz: band,
+        order: order.as_int(),
+        unknowns: st.n_dofs,
+        ports: port_names.clone(),
+        regions: region_infos(&mats, &load_names),
+        wall_conductivity: settings.wall_conductivity,
+        field_scaling: if args.no_fields {
+            "no field files written".into()
+        } else {
+            format!(
+                "E in V/m, H in A/m and {} in W/m³, all for 1 J of stored energy per mode \
+                 (peak phasor amplitudes)",
+                vtk_modes::HEATING
+            )
+        },
+        infinite_q: "an infinite Q (no such loss) is written as null".into(),
+        modes: rows,
+        band_summary: band_summary(
+            &figures,
+            band,
+            band_from,
+            good_coupling,
+            q_check_max_relative,
+        ),
+        solve: solve_figures(&mesh, mesh_s, st, &plan, avail),
+    };
+
+    // Files, only now that the results exist.
+    let dir = super::output_dir(args.out.as_deref(), &args.geometry);
+    super::create_dir(&dir)?;
+    json::write(&dir.join("modes.json"), &doc)?;
+    csv::write(&dir.join("modes.csv"), &doc.modes, &port_names, &load_names)?;
+    let svg = spectrum_svg(&doc, band_explicit);
+    let svg_path = dir.join("spectrum.svg");
+    std::fs::write(&svg_path, svg)
+        .with_context(|| format!("cannot write {}", svg_path.display()))?;
+    if !args.no_fields {
+        let spinner = Spinner::start("writing mode fields");
+        let r = vtk_modes::write_all(&dir, &set, &mats);
+        spinner.finish();
+        r?;
+    }
+
+    match args.format {
+        Format::Json => println!("{}", json::to_string(&doc)?),
+        Format::Table => {
+            table::print(&doc);
+            println!();
+            if args.no_fields {
+                println!(
+                    "wrote {}/modes.json, modes.csv and spectrum.svg",
+                    dir.display()
+                );
+            } else {
+                println!(
+                    "wrote {}/modes.json, modes.csv, spectrum.svg, {} mode files \
+                     (mode_001.vtu …) and modes.pvd; fields scaled to 1 J stored energy",
+                    dir.display(),
+                    set.modes.len()
+                );
+            }
+        }
+    }
+    Ok(())
+}
+
+/// Command-line overrides, applied before meshing (target and sizes shape the mesh).
+/// Returns where the band came from, when there is one.
+fn apply_overrides(args: &ModesArgs, geom: &mut Geometry) -> Result<Option<String>> {
     if let Some(t) = args.target {
         geom.solve.target = positive("--target", t)?;
     }
@@ -110,15 +228,20 @@ pub fn run(args: &ModesArgs) -> Result<()> {
     if let Some(m) = args.max_size {
         geom.mesh.max_size = positive("--max-size", m)?;
     }
-    // The file's order was checked by its parser; an unavailable one here came from --order.
-    let settings = settings_from(&geom).map_err(|e| anyhow!("{e} (--order)"))?;
+    Ok(band_from)
+}
+
+/// The solver's plan (unknowns, memory) against the memory available: refuses a run
+/// that would not fit unless --allow-large; prints the plan for the table format.
+fn check_plan(
+    args: &ModesArgs,
+    mesh: &TetMesh,
+    mats: &[RegionMaterial],
+    settings: &ModeSettings,
+) -> Result<(Plan, Option<f64>)> {
     let order = settings.order;
-
-    let (mesh, mesh_s) = super::mesh::make(&geom)?;
-    let mats = region_materials(&geom, settings.target_hz);
-
     // Unknowns and memory from the solver's plan, before any assembly.
-    let plan = budget::plan(&mesh, &mats, &settings);
+    let plan = budget::plan(mesh, mats, settings);
     let avail = available_bytes();
     match avail {
         Some(a) if plan.memory_bytes > MEMORY_SHARE * a && !args.allow_large => bail!(
@@ -156,34 +279,17 @@ pub fn run(args: &ModesArgs) -> Result<()> {
         );
     }
 
-    let spinner = Spinner::start("solving");
-    let result = solve_modes(&mesh, &mats, &settings, &mut |s| spinner.stage(s));
-    spinner.finish();
-    let set = result.map_err(with_hint)?;
+    Ok((plan, avail))
+}
 
-    // Rows and band summary. The band is shown in the file's GHz; figures use Hz.
-    let target_ghz = geom.solve.target;
-    let band_explicit = geom.solve.band.is_some();
-    let band = geom.solve.band.unwrap_or(ISM_BAND_HZ.map(|f| f / 1e9));
-    let band_from = band_from.unwrap_or_else(|| {
-        "default ISM band, ITU Radio Regulations No. 5.150; not used to choose modes".into()
-    });
-    let freq_q: Vec<(f64, f64)> = set
-        .modes
-        .iter()
-        .map(|m| (m.frequency_hz, m.q.q_loaded))
-        .collect();
-    let figures = band_figures(
-        &freq_q,
-        settings.band_hz.unwrap_or(ISM_BAND_HZ),
-        settings.target_hz,
-        set.stats.search_radius,
-        weyl_cavity(&geom, &mesh.region_volumes(), &mats),
-    );
-    let load_names: Vec<String> = geom.loads.iter().map(|l| l.name.clone()).collect();
-    let port_names: Vec<String> = geom.ports.iter().map(|p| p.name.clone()).collect();
-    let rows: Vec<ModeRow> = set
-        .modes
+/// One row per mode for the table and the documents.
+fn mode_rows(
+    set: &ModeSet<'_>,
+    target_ghz: f64,
+    figures: &BandFigures,
+    load_names: &[String],
+) -> Vec<ModeRow> {
+    set.modes
         .iter()
         .enumerate()
         .map(|(i, m)| {
@@ -225,9 +331,12 @@ pub fn run(args: &ModesArgs) -> Result<()> {
                 q_check_relative: summary::q_check(m.q_eigen, q_balance),
             }
         })
-        .collect();
-    let in_band_idx = &figures.in_band;
-    let good_coupling: Vec<GoodCoupling> = in_band_idx
+        .collect()
+}
+
+/// In-band modes whose feed reflection at resonance is at most the threshold.
+fn good_couplings(rows: &[ModeRow], in_band: &[usize], port_names: &[String]) -> Vec<GoodCoupling> {
+    in_band
         .iter()
         .flat_map(|&i| {
             let r = &rows[i];
@@ -242,129 +351,7 @@ pub fn run(args: &ModesArgs) -> Result<()> {
                 })
             })
         })
-        .collect();
-    let q_check_max_relative = rows
-        .iter()
-        .filter_map(|r| r.q_check_relative)
-        .map(f64::abs)
-        .reduce(f64::max);
-    let regions: Vec<RegionInfo> = mats
-        .iter()
-        .enumerate()
-        .map(|(i, m)| RegionInfo {
-            id: i as u32,
-            name: if i == 0 {
-                "air".into()
-            } else {
-                load_names.get(i - 1).cloned().unwrap_or_default()
-            },
-            eps_real: m.eps_real,
-            eps_imag: m.eps_imag,
-            mu_r: m.mu_r,
-        })
-        .collect();
-    let st = &set.stats;
-    let doc = ModesDoc {
-        geometry: args.geometry.display().to_string(),
-        title: geom.title.clone(),
-        target_ghz,
-        band_ghz: band,
-        order: order.as_int(),
-        unknowns: st.n_dofs,
-        ports: port_names.clone(),
-        regions,
-        wall_conductivity: settings.wall_conductivity,
-        field_scaling: if args.no_fields {
-            "no field files written".into()
-        } else {
-            format!(
-                "E in V/m, H in A/m and {} in W/m³, all for 1 J of stored energy per mode \
-                 (peak phasor amplitudes)",
-                vtk_modes::HEATING
-            )
-        },
-        infinite_q: "an infinite Q (no such loss) is written as null".into(),
-        modes: rows,
-        band_summary: BandSummary {
-            band_ghz: band,
-            band_from,
-            modes_in_band: figures.in_band.len(),
-            complete: figures.completeness.complete,
-            complete_above_q: figures.completeness.above_q,
-            weyl_estimate: WeylEstimate {
-                modes: figures.weyl.modes,
-                formula: figures.weyl.formula.into(),
-                volume_m3: figures.weyl.volume_m3,
-                source: figures.weyl.source.into(),
-            },
-            distinct_frequencies: figures.groups_hz.len(),
-            group_tolerance_relative: GROUP_TOLERANCE,
-            mean_spacing_mhz: figures.mean_spacing_hz.map(|s| s * 1e-6),
-            modal_overlap: figures.modal_overlap,
-            good_coupling,
-            good_coupling_reflection: GOOD_COUPLING_REFLECTION,
-            q_check_max_relative,
-        },
-        solve: SolveFigures {
-            nodes: mesh.nodes.len(),
-            tets: mesh.tets.len(),
-            complex: st.complex,
-            matrix_nnz: st.matrix_nnz,
-            factor_nnz: st.factor_nnz,
-            mesh_s,
-            assembly_s: st.assembly_s,
-            factor_s: st.factor_s,
-            eigen_s: st.eigen_s,
-            operator_applications: st.applications,
-            restarts: st.restarts,
-            spurious_dropped: st.spurious_dropped,
-            plan: PlanFigures {
-                unknowns: plan.n_dofs,
-                complex: plan.complex,
-                factor_entries_estimate: plan.factor_entries,
-                memory_estimate_bytes: plan.memory_bytes,
-                memory_available_bytes: avail,
-            },
-        },
-    };
-
-    // Files, only now that the results exist.
-    let dir = super::output_dir(args.out.as_deref(), &args.geometry);
-    super::create_dir(&dir)?;
-    json::write(&dir.join("modes.json"), &doc)?;
-    csv::write(&dir.join("modes.csv"), &doc.modes, &port_names, &load_names)?;
-    let svg = spectrum_svg(&doc, band_explicit);
-    let svg_path = dir.join("spectrum.svg");
-    std::fs::write(&svg_path, svg)
-        .with_context(|| format!("cannot write {}", svg_path.display()))?;
-    if !args.no_fields {
-        let spinner = Spinner::start("writing mode fields");
-        let r = vtk_modes::write_all(&dir, &set, &mats);
-        spinner.finish();
-        r?;
-    }
-
-    match args.format {
-        Format::Json => println!("{}", json::to_string(&doc)?),
-        Format::Table => {
-            table::print(&doc);
-            println!();
-            if args.no_fields {
-                println!(
-                    "wrote {}/modes.json, modes.csv and spectrum.svg",
-                    dir.display()
-                );
-            } else {
-                println!(
-                    "wrote {}/modes.json, modes.csv, spectrum.svg, {} mode files \
-                     (mode_001.vtu …) and modes.pvd; fields scaled to 1 J stored energy",
-                    dir.display(),
-                    set.modes.len()
-                );
-            }
-        }
-    }
-    Ok(())
+        .collect()
 }
 
 /// The solver's error with what to change on this command line.
@@ -439,4 +426,83 @@ fn spectrum_svg(doc: &ModesDoc, band_explicit: bool) -> String {
         modes: &modes,
         ports: &doc.ports,
     })
+}
+
+/// Region ids of the `.vtu` files with their names and materials.
+fn region_infos(mats: &[RegionMaterial], load_names: &[String]) -> Vec<RegionInfo> {
+    mats.iter()
+        .enumerate()
+        .map(|(i, m)| RegionInfo {
+            id: i as u32,
+            name: if i == 0 {
+                "air".into()
+            } else {
+                load_names.get(i - 1).cloned().unwrap_or_default()
+            },
+            eps_real: m.eps_real,
+            eps_imag: m.eps_imag,
+            mu_r: m.mu_r,
+        })
+        .collect()
+}
+
+/// The band summary of the documents from the solver's band figures.
+fn band_summary(
+    figures: &BandFigures,
+    band: [f64; 2],
+    band_from: String,
+    good_coupling: Vec<GoodCoupling>,
+    q_check_max_relative: Option<f64>,
+) -> BandSummary {
+    BandSummary {
+        band_ghz: band,
+        band_from,
+        modes_in_band: figures.in_band.len(),
+        complete: figures.completeness.complete,
+        complete_above_q: figures.completeness.above_q,
+        weyl_estimate: WeylEstimate {
+            modes: figures.weyl.modes,
+            formula: figures.weyl.formula.into(),
+            volume_m3: figures.weyl.volume_m3,
+            source: figures.weyl.source.into(),
+        },
+        distinct_frequencies: figures.groups_hz.len(),
+        group_tolerance_relative: GROUP_TOLERANCE,
+        mean_spacing_mhz: figures.mean_spacing_hz.map(|s| s * 1e-6),
+        modal_overlap: figures.modal_overlap,
+        good_coupling,
+        good_coupling_reflection: GOOD_COUPLING_REFLECTION,
+        q_check_max_relative,
+    }
+}
+
+/// Sizes and times of the solve, with the plan made before it.
+fn solve_figures(
+    mesh: &TetMesh,
+    mesh_s: f64,
+    st: &SolveStats,
+    plan: &Plan,
+    avail: Option<f64>,
+) -> SolveFigures {
+    SolveFigures {
+        nodes: mesh.nodes.len(),
+        tets: mesh.tets.len(),
+        complex: st.complex,
+        matrix_nnz: st.matrix_nnz,
+        factor_nnz: st.factor_nnz,
+        mesh_s,
+        assembly_s: st.assembly_s,
+        factor_s: st.factor_s,
+        eigen_s: st.eigen_s,
+        operator_applications: st.applications,
+        restarts: st.restarts,
+        spurious_dropped: st.spurious_dropped,
+        plan: PlanFigures {
+            unknowns: plan.n_dofs,
+            complex: plan.complex,
+            factor_entries_estimate: plan.factor_entries,
+            memory_estimate_bytes: plan.memory_bytes,
+            memory_available_bytes: avail,
+        },
+    }
 }

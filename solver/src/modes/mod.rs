@@ -180,11 +180,9 @@ pub fn solve_modes<'m>(
     });
     let ordering = early_ordering.unwrap_or_else(|| order_matrix(&sys.stiffness));
     let scale = ResidualScale::new(sys);
-    let run = if complex {
-        eigen_complex(sys, &ports, &search, &ordering, settings, scale, progress)?
-    } else {
-        eigen_real(sys, &search, &ordering, settings, scale, progress)?
-    };
+    let run = eigen_run(
+        complex, sys, &ports, &search, &ordering, settings, scale, progress,
+    )?;
 
     progress(Stage::Checks);
     let t_checks = Instant::now();
@@ -269,35 +267,12 @@ fn factor_and_iterate<T: KrylovScalar, O: KrylovOperator<T>>(
     Ok((op, ritz, run))
 }
 
-/// Real path: factorise K − σM′, iterate on (K − σM′)⁻¹M′.
-fn eigen_real(
-    sys: &SystemMatrices,
-    search: &Search,
-    ordering: &TimedOrdering,
-    settings: &ModeSettings,
-    scale: ResidualScale,
-    progress: &mut dyn FnMut(Stage),
-) -> Result<EigenRun, SolverError> {
-    let build = || {
-        let factor = RefinedFactor::new(
-            shifted_real(sys, search.sigma),
-            settings.factor,
-            ordering.permutation.as_ref(),
-            settings.refine,
-        )?;
-        let nnz = factor.factor_nnz();
-        let mass = &sys.mass_real;
-        Ok((RealShiftInvert { factor, mass }, nnz))
-    };
-    let (op, ritz, mut run) = factor_and_iterate(build, search, settings, progress)?;
-    drop(op);
-    run.raw = real_raw_modes(&ritz, search.sigma, sys, scale);
-    Ok(run)
-}
-
-/// Complex path: factorise K + jβP − σ(M′ − jM″) in its 2n form, iterate on
-/// A⁻¹(M′ − jM″).
-fn eigen_complex(
+/// Factorise the shifted operator and iterate: on the real path K − σM′ and
+/// (K − σM′)⁻¹M′; on the complex path K + jβP − σ(M′ − jM″) in its 2n form and
+/// A⁻¹(M′ − jM″). Then the raw eigenpairs with their residuals.
+#[allow(clippy::too_many_arguments)]
+fn eigen_run(
+    complex: bool,
     sys: &SystemMatrices,
     ports: &PortTerms,
     search: &Search,
@@ -306,13 +281,26 @@ fn eigen_complex(
     scale: ResidualScale,
     progress: &mut dyn FnMut(Stage),
 ) -> Result<EigenRun, SolverError> {
+    let (kind, perm, refine) = (
+        settings.factor,
+        ordering.permutation.as_ref(),
+        settings.refine,
+    );
+    if !complex {
+        let build = || {
+            let factor = RefinedFactor::new(shifted_real(sys, search.sigma), kind, perm, refine)?;
+            let nnz = factor.factor_nnz();
+            let mass = &sys.mass_real;
+            Ok((RealShiftInvert { factor, mass }, nnz))
+        };
+        let (op, ritz, mut run) = factor_and_iterate(build, search, settings, progress)?;
+        drop(op);
+        run.raw = real_raw_modes(&ritz, search.sigma, sys, scale);
+        return Ok(run);
+    }
     let build = || {
-        let factor = ComplexFactor::new(
-            shifted_complex(sys, search.sigma, ports),
-            settings.factor,
-            ordering.permutation.as_ref(),
-            settings.refine,
-        )?;
+        let parts = shifted_complex(sys, search.sigma, ports);
+        let factor = ComplexFactor::new(parts, kind, perm, refine)?;
         let nnz = factor.real_form.factor_nnz();
         let (m_re, m_im) = (&sys.mass_real, sys.mass_imag.as_ref());
         Ok((ComplexShiftInvert { factor, m_re, m_im }, nnz))

@@ -114,26 +114,17 @@ pub fn energy_scale() -> f64 {
     (2.0 / EPS0).sqrt()
 }
 
-/// H = ∇×E/(−jωμ0μr) (real and imaginary parts) from the curl's parts `curl_re`,
-/// `curl_im` and the complex angular frequency ω = `omega_re` + j `omega_im` (rad/s).
+/// H = ∇×E/(−jωμ0μr) (real and imaginary parts, times `scale`) from the curl's parts
+/// `cr`, `ci` and the complex angular frequency ω = `omega_re` + j `omega_im` (rad/s).
 pub fn magnetic_field(
-    curl_re: [f64; 3],
-    curl_im: [f64; 3],
-    omega_re: f64,
-    omega_im: f64,
-    mu_r: f64,
-) -> ([f64; 3], [f64; 3]) {
-    magnetic_field_scaled(curl_re, curl_im, omega_re, omega_im, 1.0 / (MU0 * mu_r))
-}
-
-/// [`magnetic_field`] with the factor s = 1/(μ0μr) (times a field scaling) given.
-fn magnetic_field_scaled(
     cr: [f64; 3],
     ci: [f64; 3],
     omega_re: f64,
     omega_im: f64,
-    s: f64,
+    mu_r: f64,
+    scale: f64,
 ) -> ([f64; 3], [f64; 3]) {
+    let s = scale / (MU0 * mu_r);
     let w2 = omega_re * omega_re + omega_im * omega_im;
     let (a, b) = (omega_im / w2, omega_re / w2);
     (
@@ -220,7 +211,7 @@ pub fn mode_fields(
             .copied()
             .unwrap_or(RegionMaterial::VACUUM);
         let (ei, ci) = cells_im.get(t).copied().unwrap_or(([0.0; 3], [0.0; 3]));
-        let (h_re, h_im) = magnetic_field_scaled(cr, ci, w_re, w_im, alpha / (MU0 * mat.mu_r));
+        let (h_re, h_im) = magnetic_field(cr, ci, w_re, w_im, mat.mu_r, alpha);
         out.cell_h_real.push(h_re);
         out.cell_h_imag.push(h_im);
         let e2 = alpha * alpha * (norm2(er) + norm2(ei));
@@ -243,7 +234,7 @@ mod tests {
     fn plane_wave_h_is_e_over_eta0() {
         let k0 = 51.3;
         let omega = C0 * k0;
-        let (h_re, h_im) = magnetic_field([0.0; 3], [0.0, -k0, 0.0], omega, 0.0, 1.0);
+        let (h_re, h_im) = magnetic_field([0.0; 3], [0.0, -k0, 0.0], omega, 0.0, 1.0, 1.0);
         let eta0 = MU0 * C0;
         assert!(
             (h_re[1] * eta0 - 1.0).abs() < 1e-12,
