@@ -5,6 +5,7 @@
 //! whose boundary triangles carry tags (metal wall or which feed port).
 
 pub mod error;
+pub mod faces;
 pub mod geometry;
 pub mod gmsh;
 pub mod make;
