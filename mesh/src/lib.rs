@@ -6,6 +6,7 @@
 
 pub mod constants;
 pub mod error;
+pub mod faces;
 pub mod geometry;
 pub mod gmsh;
 pub mod make;

@@ -113,35 +113,9 @@ pub fn grid_mesh(
     mesh
 }
 
-/// Faces used by exactly one tetrahedron, oriented as they appear in it.
+/// Faces used by exactly one tetrahedron, oriented outward (see [`crate::faces`]).
 pub fn boundary_faces(mesh: &TetMesh) -> Vec<[u32; 3]> {
-    let mut faces: Vec<([u32; 3], [u32; 3])> = Vec::with_capacity(mesh.tets.len() * 4);
-    for t in &mesh.tets {
-        for f in [
-            [t[0], t[1], t[2]],
-            [t[0], t[1], t[3]],
-            [t[0], t[2], t[3]],
-            [t[1], t[2], t[3]],
-        ] {
-            let mut key = f;
-            key.sort_unstable();
-            faces.push((key, f));
-        }
-    }
-    faces.sort_unstable_by_key(|x| x.0);
-    let mut out = Vec::new();
-    let mut i = 0;
-    while i < faces.len() {
-        let mut j = i + 1;
-        while j < faces.len() && faces[j].0 == faces[i].0 {
-            j += 1;
-        }
-        if j - i == 1 {
-            out.push(faces[i].1);
-        }
-        i = j;
-    }
-    out
+    crate::faces::boundary_faces(&mesh.tets, &mesh.nodes)
 }
 
 #[cfg(test)]

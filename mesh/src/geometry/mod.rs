@@ -1,0 +1,64 @@
+//! The geometry description an engineer writes (TOML; lengths in mm, frequencies in
+//! GHz, z vertical) and its validated in-memory form.
+//!
+//! The in-memory types keep the file's units (mm, GHz); the mesher converts to metres.
+//!
+//! # File format
+//!
+//! ```toml
+//! title = "..."
+//! [cavity]
+//! shape = "box"                  # "box": size = [x, y, z], corner at the origin
+//! size = [300.0, 300.0, 200.0]   # "cylinder": radius = R, height = H, axis on z, centre at x = y = 0
+//! walls = "copper"               # metal from the built-in list, { conductivity = 3.5e7 } (S/m), or "pec"
+//! [[load]]                       # zero or more
+//! name = "bowl"
+//! shape = "cylinder"             # vertical axis: center = [x, y], radius, bottom (z of base), height
+//! center = [150.0, 150.0]
+//! radius = 60.0
+//! bottom = 10.0
+//! height = 40.0
+//! material = "water"             # built-in name, or { permittivity = 4.0, loss_tangent = 0.01 },
+//!                                # or { permittivity = 78.0, loss_factor = 10.0 } (eps''), optional permeability
+//! # shape = "box" uses min = [x, y, z] and max = [x, y, z]
+//! [[port]]                       # zero or more feed apertures (used by the solver later)
+//! wall = "+x"                    # box: "-x" "+x" "-y" "+y" "-z" "+z"; cylinder: "top", "bottom", "side" (+ angle_deg)
+//! center = [150.0, 100.0]        # position on that wall, in the wall's two in-plane coordinates (mm)
+//! width = 86.36                  # broad side (mm)
+//! height = 43.18                 # narrow side (mm)
+//! [mesh]
+//! order = 2                      # element order the solver will use (1 or 2)
+//! per_wavelength = 6.0           # elements per local wavelength at the target frequency
+//! max_size = 20.0                # mm, upper bound on element size anywhere
+//! [solve]
+//! target = 2.45                  # GHz
+//! band = [2.40, 2.50]            # GHz, optional
+//! count = 20                     # modes to find near the target (optional if band is given)
+//! ```
+//!
+//! Extensions implemented here:
+//! - load `material` may also be `{ permittivity, conductivity }` (S/m); every material
+//!   table may carry `permeability` (default 1);
+//! - load `temperature` (°C, 0–100, default 20) sets the temperature of `material = "water"`;
+//! - port `name` (default "port1", "port2", … by position), `angle_deg` for `wall = "side"`
+//!   (azimuth of the arc coordinate's origin, default 0), `rotated = true` to put the broad
+//!   side along the wall's second in-plane axis (see [`PortWall`]);
+//! - `[mesh]` `import = "file.msh"` (Gmsh MSH 4.1, relative to the geometry file),
+//!   `unit_mm` (mm per file unit, default 1) and a `[mesh.groups]` table mapping physical
+//!   group names to "air", "wall", a load name or a port name; loads need no shape then;
+//! - defaults: `[mesh]` order 2, per_wavelength 6, max_size 20 mm; `[solve]` target
+//!   2.45 GHz, count 20 when no band is given.
+//!
+//! Every key is checked: unknown keys, out-of-range values, loads outside the cavity or
+//! overlapping each other (touching is allowed), ports that do not fit on their wall and
+//! duplicate names are rejected with a [`GeometryError`] naming file, line, entry and value.
+
+mod context;
+mod load;
+mod model;
+mod parse;
+mod raw;
+mod settings;
+mod validate;
+
+pub use model::*;

@@ -1,0 +1,238 @@
+//! The validated in-memory form of a geometry: cavity, loads, ports and settings, in the
+//! file's units (mm, GHz).
+
+use crate::material::Material;
+use std::path::PathBuf;
+
+/// A validated geometry file.
+#[derive(Clone, Debug)]
+pub struct Geometry {
+    /// Free-text title.
+    pub title: String,
+    /// The metal enclosure.
+    pub cavity: Cavity,
+    /// Dielectric loads inside the cavity, in file order.
+    pub loads: Vec<Load>,
+    /// Feed apertures on the walls, in file order.
+    pub ports: Vec<Port>,
+    /// Meshing settings.
+    pub mesh: MeshSettings,
+    /// Eigen-solve settings.
+    pub solve: SolveSettings,
+    /// File the geometry was read from, if any (for messages and relative paths).
+    pub source: Option<PathBuf>,
+}
+
+/// Shape of the cavity.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum CavityShape {
+    /// Box with one corner at the origin, `size = [x, y, z]` in mm.
+    Box { size: [f64; 3] },
+    /// Cylinder with axis on z, centre at x = y = 0, base at z = 0 (mm).
+    Cylinder { radius: f64, height: f64 },
+}
+
+/// Wall metal.
+#[derive(Clone, Debug, PartialEq)]
+pub enum WallMetal {
+    /// Perfect electric conductor (no wall loss).
+    Pec,
+    /// A metal with finite conductivity (S/m).
+    Metal { name: String, conductivity: f64 },
+}
+
+/// The cavity: shape and wall metal.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Cavity {
+    pub shape: CavityShape,
+    pub walls: WallMetal,
+}
+
+/// Shape of a load (mm).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum LoadShape {
+    /// Vertical cylinder: axis through `center = [x, y]`, from `bottom` to `bottom + height`.
+    Cylinder {
+        center: [f64; 2],
+        radius: f64,
+        bottom: f64,
+        height: f64,
+    },
+    /// Axis-aligned box from `min` to `max`.
+    Box { min: [f64; 3], max: [f64; 3] },
+}
+
+/// A dielectric load.
+#[derive(Clone, Debug)]
+pub struct Load {
+    pub name: String,
+    /// `None` only when the mesh is imported (the imported mesh gives the shape).
+    pub shape: Option<LoadShape>,
+    pub material: Material,
+}
+
+/// Wall a port sits on.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum PortWall {
+    /// Box wall: `axis` 0/1/2 = x/y/z, `positive` = the wall at the far side (size), else at 0.
+    /// In-plane coordinates: x-walls (y, z), y-walls (x, z), z-walls (x, y).
+    BoxWall { axis: usize, positive: bool },
+    /// Cylinder top (z = H), in-plane coordinates (x, y).
+    Top,
+    /// Cylinder bottom (z = 0), in-plane coordinates (x, y).
+    Bottom,
+    /// Cylinder side wall; in-plane coordinates (arc length in mm counter-clockwise from
+    /// azimuth `angle_deg`, z).
+    Side { angle_deg: f64 },
+}
+
+/// A rectangular feed aperture (a matched waveguide attached to a wall).
+#[derive(Clone, Debug, PartialEq)]
+pub struct Port {
+    pub name: String,
+    pub wall: PortWall,
+    /// Centre in the wall's two in-plane coordinates (mm).
+    pub center: [f64; 2],
+    /// Broad side (mm); along the first in-plane axis unless `rotated`.
+    pub width: f64,
+    /// Narrow side (mm).
+    pub height: f64,
+    /// Broad side along the second in-plane axis instead of the first.
+    pub rotated: bool,
+}
+
+/// Meshing settings.
+#[derive(Clone, Debug, PartialEq)]
+pub struct MeshSettings {
+    /// Element order the solver will use (1 or 2).
+    pub order: u8,
+    /// Elements per local wavelength at the target frequency.
+    pub per_wavelength: f64,
+    /// Upper bound on element size anywhere (mm).
+    pub max_size: f64,
+    /// Optional imported mesh (Gmsh MSH 4.1), resolved relative to the geometry file.
+    pub import: Option<MeshImport>,
+}
+
+/// An imported mesh and how its physical groups map onto the geometry.
+#[derive(Clone, Debug, PartialEq)]
+pub struct MeshImport {
+    pub file: PathBuf,
+    /// Length unit of the file's coordinates, in mm (1.0 = mm, 1000.0 = m).
+    pub unit_mm: f64,
+    /// (physical group name, target) pairs; target is "air", a load name, "wall" or a port name.
+    pub groups: Vec<(String, String)>,
+}
+
+/// Eigen-solve settings.
+#[derive(Clone, Debug, PartialEq)]
+pub struct SolveSettings {
+    /// Target frequency, GHz.
+    pub target: f64,
+    /// Band of interest [lo, hi], GHz.
+    pub band: Option<[f64; 2]>,
+    /// Number of modes nearest the target.
+    pub count: Option<usize>,
+}
+
+/// Default element order.
+pub const DEFAULT_ORDER: u8 = 2;
+/// Default elements per local wavelength.
+pub const DEFAULT_PER_WAVELENGTH: f64 = 6.0;
+/// Default upper bound on element size, mm.
+pub const DEFAULT_MAX_SIZE_MM: f64 = 20.0;
+/// Default target frequency, GHz.
+pub const DEFAULT_TARGET_GHZ: f64 = 2.45;
+/// Default number of modes when no band is given.
+pub const DEFAULT_COUNT: usize = 20;
+
+impl CavityShape {
+    /// Largest extent of the cavity (mm); sets the scale of geometric tolerances.
+    pub fn scale(&self) -> f64 {
+        match *self {
+            CavityShape::Box { size } => size[0].max(size[1]).max(size[2]),
+            CavityShape::Cylinder { radius, height } => (2.0 * radius).max(height),
+        }
+    }
+
+    /// Cavity volume, mm³.
+    pub fn volume(&self) -> f64 {
+        match *self {
+            CavityShape::Box { size } => size[0] * size[1] * size[2],
+            CavityShape::Cylinder { radius, height } => {
+                std::f64::consts::PI * radius * radius * height
+            }
+        }
+    }
+}
+
+impl LoadShape {
+    /// Load volume, mm³.
+    pub fn volume(&self) -> f64 {
+        match *self {
+            LoadShape::Cylinder { radius, height, .. } => {
+                std::f64::consts::PI * radius * radius * height
+            }
+            LoadShape::Box { min, max } => (0..3).map(|i| max[i] - min[i]).product(),
+        }
+    }
+
+    /// Vertical extent [bottom, top], mm.
+    pub fn z_range(&self) -> [f64; 2] {
+        match *self {
+            LoadShape::Cylinder { bottom, height, .. } => [bottom, bottom + height],
+            LoadShape::Box { min, max } => [min[2], max[2]],
+        }
+    }
+}
+
+impl PortWall {
+    /// The wall's name as written in the file ("+x", "top", "side", …).
+    pub fn label(&self) -> &'static str {
+        match *self {
+            PortWall::BoxWall { axis, positive } => match (axis, positive) {
+                (0, false) => "-x",
+                (0, true) => "+x",
+                (1, false) => "-y",
+                (1, true) => "+y",
+                (_, false) => "-z",
+                (_, true) => "+z",
+            },
+            PortWall::Top => "top",
+            PortWall::Bottom => "bottom",
+            PortWall::Side { .. } => "side",
+        }
+    }
+
+    /// For a box wall, the global axes (0/1/2 = x/y/z) of the two in-plane coordinates.
+    pub fn box_in_plane_axes(axis: usize) -> [usize; 2] {
+        match axis {
+            0 => [1, 2],
+            1 => [0, 2],
+            _ => [0, 1],
+        }
+    }
+}
+
+impl Port {
+    /// Extents of the aperture along the wall's first and second in-plane axes (mm).
+    pub fn in_plane_extent(&self) -> [f64; 2] {
+        if self.rotated {
+            [self.height, self.width]
+        } else {
+            [self.width, self.height]
+        }
+    }
+}
+
+impl Geometry {
+    /// The load with this name, if any.
+    pub fn load(&self, name: &str) -> Option<&Load> {
+        self.loads.iter().find(|l| l.name == name)
+    }
+
+    /// The port with this name, if any.
+    pub fn port(&self, name: &str) -> Option<&Port> {
+        self.ports.iter().find(|p| p.name == name)
+    }
+}

@@ -1,0 +1,226 @@
+//! Reading the `[mesh]` and `[solve]` tables.
+
+use super::context::{fmt_list, quoted_list, Ctx, Res};
+use super::raw::*;
+use super::*;
+use crate::error::{GeometryError, Item};
+use std::collections::BTreeMap;
+use std::ops::Range;
+use std::path::{Path, PathBuf};
+use toml::Spanned;
+
+impl Ctx<'_> {
+    pub(super) fn mesh(
+        &self,
+        rm: Option<&Spanned<RawMesh>>,
+        loads: &[Load],
+        ports: &[Port],
+    ) -> Res<MeshSettings> {
+        let item = Item::Mesh;
+        let Some(rm) = rm else {
+            return Ok(MeshSettings {
+                order: DEFAULT_ORDER,
+                per_wavelength: DEFAULT_PER_WAVELENGTH,
+                max_size: DEFAULT_MAX_SIZE_MM,
+                import: None,
+            });
+        };
+        let m = rm.get_ref();
+        let order = match &m.order {
+            None => DEFAULT_ORDER,
+            Some(o) => match *o.get_ref() {
+                1 => 1,
+                2 => 2,
+                x => {
+                    return Err(self.invalid(
+                        o.span(),
+                        &item,
+                        "order",
+                        x,
+                        "element order must be 1 or 2",
+                    ))
+                }
+            },
+        };
+        let per_wavelength = match &m.per_wavelength {
+            None => DEFAULT_PER_WAVELENGTH,
+            Some(v) => self.positive(v, &item, "per_wavelength", " (elements per wavelength)")?,
+        };
+        let max_size = match &m.max_size {
+            None => DEFAULT_MAX_SIZE_MM,
+            Some(v) => self.positive(v, &item, "max_size", " (mm)")?,
+        };
+        let import = match &m.import {
+            None => {
+                if let Some(u) = &m.unit_mm {
+                    return Err(self.invalid(
+                        u.span(),
+                        &item,
+                        "unit_mm",
+                        u.get_ref(),
+                        "applies only with import = \"file.msh\"",
+                    ));
+                }
+                if let Some(g) = &m.groups {
+                    return Err(self.invalid(
+                        g.span(),
+                        &item,
+                        "groups",
+                        "{..}",
+                        "[mesh.groups] applies only with import = \"file.msh\"",
+                    ));
+                }
+                None
+            }
+            Some(f) => {
+                let file_str = f.get_ref().trim();
+                if file_str.is_empty() {
+                    return Err(self.invalid(
+                        f.span(),
+                        &item,
+                        "import",
+                        "\"\"",
+                        "give the path of a Gmsh MSH 4.1 file",
+                    ));
+                }
+                let mut file = PathBuf::from(file_str);
+                if file.is_relative() {
+                    if let Some(dir) = self.file.as_deref().and_then(Path::parent) {
+                        file = dir.join(file);
+                    }
+                }
+                let unit_mm = match &m.unit_mm {
+                    None => 1.0,
+                    Some(u) => self.positive(
+                        u,
+                        &item,
+                        "unit_mm",
+                        " (mm per file unit: 1 for mm, 1000 for m)",
+                    )?,
+                };
+                let groups = self.groups(m.groups.as_ref(), loads, ports, rm.span())?;
+                Some(MeshImport {
+                    file,
+                    unit_mm,
+                    groups,
+                })
+            }
+        };
+        Ok(MeshSettings {
+            order,
+            per_wavelength,
+            max_size,
+            import,
+        })
+    }
+
+    pub(super) fn groups(
+        &self,
+        g: Option<&Spanned<BTreeMap<String, Spanned<String>>>>,
+        loads: &[Load],
+        ports: &[Port],
+        mesh_span: Range<usize>,
+    ) -> Res<Vec<(String, String)>> {
+        let mut targets: Vec<&str> = vec!["air", "wall"];
+        targets.extend(loads.iter().map(|l| l.name.as_str()));
+        targets.extend(ports.iter().map(|p| p.name.as_str()));
+        let allowed = quoted_list(&targets);
+        let mut out = Vec::new();
+        if let Some(g) = g {
+            for (group, target) in g.get_ref() {
+                let t = target.get_ref().trim();
+                if !targets.contains(&t) {
+                    return Err(GeometryError::UnknownGroupTarget {
+                        at: self.at(target.span()),
+                        group: group.clone(),
+                        target: t.to_string(),
+                        allowed,
+                    });
+                }
+                out.push((group.clone(), t.to_string()));
+            }
+        }
+        // Every load and port must own at least one group, else it has no elements/faces.
+        for name in loads
+            .iter()
+            .map(|l| ("load", &l.name))
+            .chain(ports.iter().map(|p| ("port", &p.name)))
+        {
+            if !out.iter().any(|(_, t)| t == name.1) {
+                let span = g.map_or(mesh_span.clone(), |g| g.span());
+                let item = if name.0 == "load" {
+                    Item::Load(name.1.clone())
+                } else {
+                    Item::Port(name.1.clone())
+                };
+                return Err(self.missing(
+                    span,
+                    &item,
+                    "mesh.groups",
+                    &format!(
+                        "with an imported mesh every {} needs a physical group: add \
+                         \"<group name>\" = \"{}\" to [mesh.groups]",
+                        name.0, name.1
+                    ),
+                ));
+            }
+        }
+        Ok(out)
+    }
+
+    pub(super) fn solve(&self, rs: Option<&Spanned<RawSolve>>) -> Res<SolveSettings> {
+        let item = Item::Solve;
+        let Some(rs) = rs else {
+            return Ok(SolveSettings {
+                target: DEFAULT_TARGET_GHZ,
+                band: None,
+                count: Some(DEFAULT_COUNT),
+            });
+        };
+        let s = rs.get_ref();
+        let target = match &s.target {
+            None => DEFAULT_TARGET_GHZ,
+            Some(t) => self.positive(t, &item, "target", " (GHz)")?,
+        };
+        let band = match &s.band {
+            None => None,
+            Some(b) => {
+                let [lo, hi]: [f64; 2] = self.array(b, &item, "band", "[lo, hi] in GHz")?;
+                if lo <= 0.0 || lo >= hi {
+                    return Err(self.invalid(
+                        b.span(),
+                        &item,
+                        "band",
+                        fmt_list(&[lo, hi]),
+                        "needs 0 < lo < hi (GHz)",
+                    ));
+                }
+                Some([lo, hi])
+            }
+        };
+        let count = match &s.count {
+            None if band.is_none() => Some(DEFAULT_COUNT),
+            None => None,
+            Some(c) => {
+                let n = *c.get_ref();
+                if n < 1 {
+                    return Err(self.invalid(
+                        c.span(),
+                        &item,
+                        "count",
+                        n,
+                        "must be at least 1 mode",
+                    ));
+                }
+                Some(usize::try_from(n).map_err(|_| {
+                    self.invalid(c.span(), &item, "count", n, "is too large for this machine")
+                })?)
+            }
+        };
+        Ok(SolveSettings {
+            target,
+            band,
+            count,
+        })
+    }
+}
