@@ -4,6 +4,8 @@
 //! Every test names its outside reference beside the check; this file holds no
 //! reference values, only the machinery to compare against them.
 
+pub mod layered_guide;
+
 use antinode_mesh::structured::{grid_mesh, GridLines};
 use antinode_mesh::{RegionInfo, TetMesh};
 use antinode_solver::constants::frequency_of;
