@@ -22,6 +22,7 @@
 
 pub mod budget;
 pub mod constants;
+pub mod driven;
 pub mod error;
 pub mod fem;
 pub mod linalg;
