@@ -5,4 +5,5 @@ pub mod json;
 pub mod spectrum;
 pub mod summary;
 pub mod table;
+pub mod touchstone;
 pub mod vtk_modes;
