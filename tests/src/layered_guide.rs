@@ -34,12 +34,7 @@
 use faer::c64;
 use std::f64::consts::PI;
 
-/// μ0 (H/m), CODATA 2018.
-pub const MU0: f64 = 1.256_637_062_12e-6;
-/// ε0 (F/m), CODATA 2018.
-pub const EPS0: f64 = 8.854_187_812_8e-12;
-/// Speed of light in vacuum (m/s), exact.
-pub const C0: f64 = 299_792_458.0;
+pub use antinode_solver::constants::{C0, EPS0, MU0};
 
 /// One dielectric layer filling the cross-section.
 #[derive(Clone, Copy, Debug, PartialEq)]
