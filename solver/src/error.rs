@@ -96,4 +96,24 @@ pub enum SolverError {
     /// An element order this solver does not implement.
     #[error("Nédélec element order {order} is not available: use 1 or 2")]
     UnsupportedOrder { order: u8 },
+    /// A driven solve needs at least one port to feed the cavity.
+    #[error("a driven response needs at least one feed port")]
+    NoPorts,
+    /// A port carries no power at a frequency of the driven solve.
+    #[error(
+        "port {port} is below its TE10 cutoff ({cutoff_hz:.6e} Hz) at {freq_hz:.6e} Hz and \
+         carries no power there; keep every frequency above the cutoff (broad side \
+         wider than half a wavelength)"
+    )]
+    PortBelowCutoff {
+        port: usize,
+        freq_hz: f64,
+        cutoff_hz: f64,
+    },
+    /// A frequency of a driven solve is not a positive finite number.
+    #[error("frequency {freq_hz} Hz must be a positive finite number")]
+    InvalidFrequency { freq_hz: f64 },
+    /// The drive lists a different number of port amplitudes than there are ports.
+    #[error("the drive gives {given} port amplitudes for {ports} ports")]
+    DriveMismatch { given: usize, ports: usize },
 }

@@ -1,10 +1,11 @@
 //! Exact reference for driven solves: a rectangular waveguide carrying TE10, closed by a
-//! short circuit, with dielectric layers filling the cross-section, fed from its open end.
+//! short circuit (or continued by a matched guide), with dielectric layers filling the
+//! cross-section, fed from its open end.
 //!
 //! Geometry: broad side a along x, narrow side b along y, axis z. The feed (air) meets
 //! the layered section at the port plane z = 0; layer i fills z ∈ [z_i, z_i + d_i] with
 //! relative permittivity εr,i = ε′ − jε″ (μr = 1); a perfect short closes the guide at
-//! z = L = Σ d_i.
+//! z = L = Σ d_i (or an empty matched guide continues there: V(L) = Z0 I(L)).
 //!
 //! With every layer filling the cross-section, the TE10 field keeps its transverse
 //! shape everywhere: E = V(z) sin(πx/a) ŷ, and V(z) obeys transmission-line equations
@@ -27,7 +28,7 @@
 //! ∫ sin²(πx/a) dx dy = ab/2). The density absorbed in a layer is
 //! q = ½ ω ε0 ε″ |E|² = ½ ω ε0 ε″ sin²(πx/a) |V(z)|², and the layer absorbs
 //! P_i = ½ ω ε0 ε″ (ab/2) ∫ |V|² dz, integrated in closed form below. Energy balance
-//! (Poynting's theorem): 1 − |Γ|² = Σ P_i / P_fwd.
+//! (Poynting's theorem): 1 − |Γ|² − |T|² = Σ P_i / P_fwd (T = 0 for the short).
 //!
 //! This module holds no reference values, only the exact solution of the stated problem.
 
@@ -55,15 +56,26 @@ impl Layer {
     }
 }
 
-/// A short-circuited rectangular guide with layers from the port plane to the short.
+/// How the layered section ends at z = L.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Termination {
+    /// A perfect short: V(L) = 0.
+    Short,
+    /// An empty guide continuing without reflection (a matched second port at z = L):
+    /// V(L) = Z0 I(L).
+    Matched,
+}
+
+/// A rectangular guide with layers from the port plane to its termination.
 #[derive(Clone, Debug, PartialEq)]
-pub struct LayeredShort {
+pub struct LayeredGuide {
     /// Broad side a (m).
     pub width: f64,
     /// Narrow side b (m).
     pub height: f64,
-    /// Layers in order from the port plane (z = 0) to the short.
+    /// Layers in order from the port plane (z = 0) to the end.
     pub layers: Vec<Layer>,
+    pub termination: Termination,
 }
 
 /// The exact TE10 solution at one frequency, for unit incident amplitude (a = 1 V/m at
@@ -75,6 +87,10 @@ pub struct LayeredResponse {
     /// Reflection coefficient Γ = b/a at the port plane (= S11 with the port's
     /// reference plane at z = 0).
     pub gamma: c64,
+    /// With a matched end: the transmitted amplitude V(L)/a (= S21 with the second port's
+    /// reference plane at z = L; the same guide, so no impedance scaling). Zero for a
+    /// short.
+    pub transmission: c64,
     /// Forward power of the unit incident wave (W).
     pub forward_w: f64,
     /// Per layer: start z (m), β, and the forward/backward amplitudes (A, B) with
@@ -104,7 +120,7 @@ pub fn beta(k0: f64, eps: c64, width: f64) -> c64 {
     (eps * (k0 * k0) - c64::new((PI / width).powi(2), 0.0)).sqrt()
 }
 
-impl LayeredShort {
+impl LayeredGuide {
     /// Total length from the port plane to the short (m).
     pub fn length(&self) -> f64 {
         self.layers.iter().map(|l| l.thickness).sum()
@@ -121,10 +137,16 @@ impl LayeredShort {
         let omega = 2.0 * PI * freq_hz;
         let k0 = omega / C0;
         let j = c64::new(0.0, 1.0);
-        // Walk from the short (V = 0, I = 1) to the port plane, keeping (V, I) at every
-        // interface.
-        let mut v = c64::new(0.0, 0.0);
-        let mut i = c64::new(1.0, 0.0);
+        let beta0 = beta(k0, c64::new(1.0, 0.0), self.width);
+        let z0 = omega * MU0 / beta0;
+        // Walk from the end (short: V = 0, I = 1; matched: V = 1, I = 1/Z0) to the port
+        // plane, keeping (V, I) at every interface.
+        let (v_end, i_end) = match self.termination {
+            Termination::Short => (c64::new(0.0, 0.0), c64::new(1.0, 0.0)),
+            Termination::Matched => (c64::new(1.0, 0.0), c64::new(1.0, 0.0) / z0),
+        };
+        let mut v = v_end;
+        let mut i = i_end;
         let mut at_start = vec![(v, i); self.layers.len()];
         for (n, layer) in self.layers.iter().enumerate().rev() {
             let b = beta(k0, layer.eps, self.width);
@@ -136,8 +158,6 @@ impl LayeredShort {
             i = i0;
             at_start[n] = (v, i);
         }
-        let beta0 = beta(k0, c64::new(1.0, 0.0), self.width);
-        let z0 = omega * MU0 / beta0;
         // V = a + b, Z0 I = a − b.
         let a = 0.5 * (v + z0 * i);
         let b = 0.5 * (v - z0 * i);
@@ -167,6 +187,7 @@ impl LayeredShort {
         LayeredResponse {
             freq_hz,
             gamma,
+            transmission: v_end * scale,
             forward_w: self.width * self.height / (4.0 * z0.re),
             layers,
             omega,
@@ -251,6 +272,21 @@ impl LayeredResponse {
         let l = self.layer_at(z);
         let eps_imag = -l.eps.im;
         0.5 * self.omega * EPS0 * eps_imag * self.e_y(x, z).norm_sqr() / self.forward_w
+    }
+
+    /// ∫ q dV over the slab z ∈ [z0, z1] of one layer per watt forward:
+    /// ½ω ε0 ε″ (ab/2) ∫|V|² dz / P_fwd (composite Gauss–Legendre in z, `panels` panels).
+    pub fn slab_fraction(&self, z0: f64, z1: f64, panels: usize) -> f64 {
+        let l = self.layer_at(0.5 * (z0 + z1));
+        let eps_imag = -l.eps.im;
+        0.5 * self.omega
+            * EPS0
+            * eps_imag
+            * 0.5
+            * self.width
+            * self.height
+            * gauss_legendre(|z| l.voltage(z).norm_sqr(), z0, z1, panels)
+            / self.forward_w
     }
 
     /// Power absorbed in each layer as a fraction of the forward power.

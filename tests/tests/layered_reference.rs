@@ -7,7 +7,7 @@
 //! β = √(k² − (π/a)²), Z_TE = ωμ/β), §1.6 (Poynting's theorem: the power entering a
 //! closed region equals the power it absorbs). Section and equation numbers from memory.
 
-use antinode_tests::layered_guide::{beta, gauss_legendre, Layer, LayeredShort, C0};
+use antinode_tests::layered_guide::{beta, gauss_legendre, Layer, LayeredGuide, Termination, C0};
 use faer::c64;
 use std::f64::consts::PI;
 
@@ -15,11 +15,12 @@ use std::f64::consts::PI;
 const A: f64 = 0.08636;
 const B: f64 = 0.04318;
 
-fn guide(layers: Vec<Layer>) -> LayeredShort {
-    LayeredShort {
+fn guide(layers: Vec<Layer>) -> LayeredGuide {
+    LayeredGuide {
         width: A,
         height: B,
         layers,
+        termination: Termination::Short,
     }
 }
 
@@ -117,6 +118,7 @@ fn energy_balance_of_the_line_solution() {
             let r = g.solve(f);
             let absorbed: f64 = r.absorbed_fractions().iter().sum();
             let balance = 1.0 - r.gamma.norm_sqr() - absorbed;
+            assert_eq!(r.transmission.norm(), 0.0);
             println!(
                 "{name}, {:.2} GHz: |Γ| = {:.6}, absorbed {:?}, 1 − |Γ|² − Σ = {balance:.1e}",
                 f / 1e9,
@@ -161,5 +163,32 @@ fn closed_form_integrals_match_quadrature() {
             println!("{name} layer {i}: COV {cov:.12} (2-D quadrature {cov2d:.12})");
             assert!((cov - cov2d).abs() < 1e-10, "{name} layer {i}");
         }
+    }
+}
+
+#[test]
+fn matched_end_transmits_and_balances() {
+    // An empty matched section transmits everything with the line phase (Pozar §2.3:
+    // T = e^{−jβl}); with lossy layers, 1 − |Γ|² − |T|² = Σ P_layer/P_fwd (Pozar §1.6).
+    let f = 2.45e9;
+    let mut g = guide(vec![Layer::new(0.1, 1.0, 0.0)]);
+    g.termination = Termination::Matched;
+    let r = g.solve(f);
+    let b0 = beta(k0(f), c64::new(1.0, 0.0), A);
+    let expect = (c64::new(0.0, -1.0) * b0 * 0.1).exp();
+    assert!(r.gamma.norm() < EXACT);
+    assert!((r.transmission - expect).norm() < EXACT);
+    for (name, layers) in layered_cases() {
+        let mut g = guide(layers);
+        g.termination = Termination::Matched;
+        let r = g.solve(f);
+        let absorbed: f64 = r.absorbed_fractions().iter().sum();
+        let balance = 1.0 - r.gamma.norm_sqr() - r.transmission.norm_sqr() - absorbed;
+        println!(
+            "{name}, matched end: |Γ| = {:.6}, |T| = {:.6}, balance {balance:.1e}",
+            r.gamma.norm(),
+            r.transmission.norm()
+        );
+        assert!(balance.abs() < EXACT, "{name}: {balance:e}");
     }
 }

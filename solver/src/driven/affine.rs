@@ -14,6 +14,7 @@
 //! port-p amplitude and g_p(k) = 2jβ_p(k)N_p (see [`super`]).
 
 use crate::linalg::sparse::{combine, spmm, SparseMatrix};
+use crate::modes::operator::ComplexFactor;
 use faer::{c64, Mat, MatMut, MatRef};
 
 /// A complex scalar function of the sweep parameter.
@@ -168,8 +169,15 @@ impl AffineSystem<'_> {
 }
 
 /// A factorised A(k_e): solves A(k_e) X = B in place. Implementations: the real
-/// equivalent 2n form through the sparse symmetric factor ([`super::real_form`]), a dense
-/// LU in tests, a native complex-symmetric factor later.
+/// equivalent 2n form through the sparse symmetric factor ([`ComplexFactor`]), a dense LU
+/// in tests, a native complex-symmetric factor later.
 pub trait ShiftedSolver: Send + Sync {
     fn solve_in_place(&self, rhs: MatMut<'_, c64>);
+}
+
+impl ShiftedSolver for ComplexFactor {
+    fn solve_in_place(&self, mut rhs: MatMut<'_, c64>) {
+        let x = self.solve(rhs.as_ref());
+        rhs.copy_from(&x);
+    }
 }

@@ -1,15 +1,23 @@
-//! Driven response: the cavity fed through its ports at a real frequency.
+//! Driven response: the cavity fed through its ports at real frequencies.
 //!
-//! Parts that do not depend on the eigen pipeline: the parametrised system in affine form
-//! ([`affine`]), the bases of the projection ([`basis`]), the fast sweep by Krylov
-//! projection ([`sweep`]), the complex solve through the real 2n form ([`real_form`]),
-//! and the uniformity and temperature figures of a heating pattern ([`uniformity`]).
+//! In pipeline order: the driven operator with its port sources and wall term
+//! ([`system`]: formulation, normalisation and the energy identity), the parametrised
+//! system in affine form ([`affine`]), the fast sweep by Krylov projection ([`sweep`],
+//! with its bases in [`basis`]), S-parameters, power split and heating density
+//! ([`response`]), uniformity and temperature figures ([`uniformity`]), and the
+//! pipeline [`solve_driven`] ([`solve`]).
 
 pub mod affine;
 pub mod basis;
-pub mod real_form;
+pub mod response;
+pub mod solve;
 pub mod sweep;
+pub mod system;
 pub mod uniformity;
+
+pub use solve::{
+    solve_direct, solve_driven, AtFrequency, DriveSettings, DriveStage, DrivenField, DrivenResponse,
+};
 
 #[cfg(test)]
 mod sweep_tests;
