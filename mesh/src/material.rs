@@ -25,6 +25,17 @@ pub enum Dielectric {
     WaterDebye { temperature_c: f64 },
 }
 
+/// Thermal properties for the first-order temperature rise of a driven solve.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Thermal {
+    /// Density ρ (kg/m³).
+    pub density: f64,
+    /// Specific heat c_p (J/(kg·K)).
+    pub specific_heat: f64,
+    /// Where the two numbers come from.
+    pub source: String,
+}
+
 /// A load material.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Material {
@@ -33,6 +44,8 @@ pub struct Material {
     pub dielectric: Dielectric,
     /// Relative permeability (real).
     pub permeability: f64,
+    /// Density and specific heat (None: not known; no temperature rise then).
+    pub thermal: Option<Thermal>,
 }
 
 impl Material {
@@ -64,7 +77,18 @@ impl Material {
                 conductivity: 0.0,
             },
             permeability: 1.0,
+            thermal: None,
         }
+    }
+
+    /// The material with density ρ (kg/m³) and specific heat c_p (J/(kg·K)).
+    pub fn with_thermal(mut self, density: f64, specific_heat: f64, source: &str) -> Material {
+        self.thermal = Some(Thermal {
+            density,
+            specific_heat,
+            source: source.to_string(),
+        });
+        self
     }
 
     /// Liquid water at `temperature_c` (°C), single-Debye model (see [`water_debye`]).
@@ -73,7 +97,15 @@ impl Material {
             name: "water".to_string(),
             dielectric: Dielectric::WaterDebye { temperature_c },
             permeability: 1.0,
+            thermal: None,
         }
+        .with_thermal(
+            998.2,
+            4182.0,
+            "ρ 998.2 kg/m³, c_p 4182 J/(kg K) (liquid water at 20 °C; CRC Handbook of \
+             Chemistry and Physics, from memory); taken constant, the load's temperature \
+             changes them by < 2 % over 0-80 °C",
+        )
     }
 }
 
@@ -176,13 +208,20 @@ pub const WATER_DEFAULT_TEMPERATURE_C: f64 = 20.0;
 /// otherwise; food values vary widely with composition and temperature.
 pub fn builtin_list() -> Vec<MaterialEntry> {
     // Dielectrics are stored as ε′ and ε″ (ε″ = ε′ tan δ where the source gives tan δ).
-    let diel =
-        |name: &'static str, eps_real: f64, eps_imag: f64, source: &'static str| MaterialEntry {
-            name,
-            kind: MaterialKind::Dielectric,
-            values: MaterialValues::Dielectric(Material::constant(name, eps_real, eps_imag)),
-            source,
-        };
+    // Thermal values (ρ kg/m³, c_p J/(kg K)) with their own source after the dielectric
+    // one.
+    let diel = |name: &'static str,
+                eps_real: f64,
+                eps_imag: f64,
+                source: &'static str,
+                (rho, cp, thermal): (f64, f64, &'static str)| MaterialEntry {
+        name,
+        kind: MaterialKind::Dielectric,
+        values: MaterialValues::Dielectric(
+            Material::constant(name, eps_real, eps_imag).with_thermal(rho, cp, thermal),
+        ),
+        source,
+    };
     let metal = |name: &'static str, conductivity: f64, source: &'static str| MaterialEntry {
         name,
         kind: MaterialKind::Metal,
@@ -204,6 +243,7 @@ pub fn builtin_list() -> Vec<MaterialEntry> {
             3.2 * 9e-4,
             "eps' 3.2, tan d 0.0009 (ice near -12 °C, 3 GHz): von Hippel, Dielectric \
              Materials and Applications (1954), tables; from memory",
+            (917.0, 2050.0, "ρ 917 kg/m³, c_p 2050 J/(kg K) (ice near 0 °C): CRC Handbook, from memory"),
         ),
         diel(
             "raw beef",
@@ -211,6 +251,7 @@ pub fn builtin_list() -> Vec<MaterialEntry> {
             17.4,
             "eps' 52.4, eps'' 17.4 (lean raw beef, ~25 °C, 2.45 GHz): food dielectric \
              tables; from memory; real meat varies by +-20 % with fat and water content",
+            (1050.0, 3500.0, "ρ 1050 kg/m³, c_p 3500 J/(kg K) (lean raw meat): food property tables, from memory; varies with fat and water content"),
         ),
         diel(
             "potato",
@@ -218,6 +259,7 @@ pub fn builtin_list() -> Vec<MaterialEntry> {
             17.0,
             "eps' 57, eps'' 17 (raw potato, ~25 °C, 2.45 GHz): food dielectric tables; \
              from memory; varies with variety and moisture",
+            (1080.0, 3600.0, "ρ 1080 kg/m³, c_p 3600 J/(kg K) (raw potato): food property tables, from memory"),
         ),
         diel(
             "ptfe",
@@ -225,12 +267,14 @@ pub fn builtin_list() -> Vec<MaterialEntry> {
             2.08 * 4e-4,
             "eps' 2.08, tan d 0.0004 (Teflon at 10 GHz): Pozar, Microwave Engineering, \
              4th ed., appendix table of dielectric constants and loss tangents; from memory",
+            (2200.0, 1000.0, "ρ 2200 kg/m³, c_p 1000 J/(kg K): typical data-sheet values, from memory"),
         ),
         diel(
             "polypropylene",
             2.25,
             2.25 * 5e-4,
             "eps' 2.25, tan d 0.0005: typical data-sheet values; from memory",
+            (905.0, 1900.0, "ρ 905 kg/m³, c_p 1900 J/(kg K): typical data-sheet values, from memory"),
         ),
         diel(
             "borosilicate glass",
@@ -238,6 +282,7 @@ pub fn builtin_list() -> Vec<MaterialEntry> {
             4.6 * 5e-3,
             "eps' 4.6, tan d 0.005 (borosilicate 3.3 glass, GHz range): typical \
              data-sheet values; from memory",
+            (2230.0, 830.0, "ρ 2230 kg/m³, c_p 830 J/(kg K) (borosilicate 3.3): typical data-sheet values, from memory"),
         ),
         diel(
             "alumina",
@@ -246,12 +291,14 @@ pub fn builtin_list() -> Vec<MaterialEntry> {
             "eps' 9.8, tan d 0.0001 (99.5 % alumina at 10 GHz): Pozar, Microwave \
              Engineering, 4th ed., appendix table of dielectric constants and loss \
              tangents; from memory",
+            (3900.0, 880.0, "ρ 3900 kg/m³, c_p 880 J/(kg K) (99.5 % alumina): typical data-sheet values, from memory"),
         ),
         diel(
             "air",
             1.0,
             0.0,
             "eps' 1, lossless: common practice, no source (dry air is about 1.0006)",
+            (1.204, 1005.0, "ρ 1.204 kg/m³, c_p 1005 J/(kg K) (dry air, 20 °C, 1 atm): CRC Handbook, from memory"),
         ),
         metal(
             "copper",

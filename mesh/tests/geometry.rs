@@ -679,3 +679,44 @@ fn missing_walls_says_what_to_write() {
         &["walls", "\"pec\"", "conductivity"],
     );
 }
+
+#[test]
+fn port_drive_keys() {
+    let g = parse(&format!(
+        "{BASE}[[port]]\nname = \"a\"\nwall = \"+x\"\ncenter = [150, 100]\nwidth = 86.36\nheight = 43.18\n\
+         power = 800\nphase_deg = -90\n[[port]]\nname = \"b\"\nwall = \"-x\"\ncenter = [150, 100]\n\
+         width = 86.36\nheight = 43.18\n"
+    ))
+    .expect("valid drive keys");
+    assert_eq!(
+        (g.ports[0].power, g.ports[0].phase_deg),
+        (Some(800.0), -90.0)
+    );
+    assert_eq!((g.ports[1].power, g.ports[1].phase_deg), (None, 0.0));
+    rejects_at(&format!(
+        "{BASE}[[port]]\nname = \"neg\"\nwall = \"+x\"\ncenter = [150, 100]\nwidth = 86.36\nheight = 43.18\npower = -5\n"
+    ), "power", &["port \"neg\"", "power", "-5"]);
+    rejects_at(&format!(
+        "{BASE}[[port]]\nname = \"ph\"\nwall = \"+x\"\ncenter = [150, 100]\nwidth = 86.36\nheight = 43.18\nphase_deg = nan\n"
+    ), "phase_deg", &["port \"ph\"", "phase_deg"]);
+}
+
+#[test]
+fn thermal_properties() {
+    let g = parse(&with_load(
+        BASE,
+        "name = \"dough\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [10, 10, 10]\n\
+         material = { permittivity = 20, loss_factor = 8, density = 1100, specific_heat = 2800 }",
+    ))
+    .expect("valid thermal keys");
+    let th = g.loads[0].material.thermal.as_ref().expect("thermal");
+    assert_eq!((th.density, th.specific_heat), (1100.0, 2800.0));
+    let w = parse(&with_load(
+        BASE,
+        "name = \"w\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [10, 10, 10]\nmaterial = \"water\"",
+    ))
+    .expect("water");
+    assert!(w.loads[0].material.thermal.is_some(), "built-in water has thermal data");
+    rejects_load(BASE, "name = \"half\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = { permittivity = 4, density = 1000 }", "material", &["load \"half\"", "density", "specific_heat"]);
+    rejects_load(BASE, "name = \"neg\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = { permittivity = 4, density = 1000, specific_heat = 0 }", "material", &["load \"neg\"", "specific_heat", "> 0"]);
+}

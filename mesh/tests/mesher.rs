@@ -28,6 +28,7 @@ fn dielectric(name: &str, eps: f64) -> Material {
             conductivity: 0.0,
         },
         permeability: 1.0,
+        thermal: None,
     }
 }
 
@@ -88,6 +89,8 @@ fn port(wall: PortWall, center: [f64; 2], width: f64, height: f64, rotated: bool
         width,
         height,
         rotated,
+        power: None,
+        phase_deg: 0.0,
     }
 }
 

@@ -4,7 +4,7 @@ use super::context::{fmt_list, number, quoted_list, Ctx, Res};
 use super::raw::*;
 use super::*;
 use crate::error::{GeometryError, Item};
-use crate::material::{self, Dielectric, Material, MaterialKind, MaterialValues};
+use crate::material::{self, Dielectric, Material, MaterialKind, MaterialValues, Thermal};
 use std::ops::Range;
 use toml::Spanned;
 
@@ -225,15 +225,18 @@ impl Ctx<'_> {
         span: Range<usize>,
         item: &Item,
     ) -> Res<Material> {
-        const KEYS: [&str; 5] = [
+        const KEYS: [&str; 7] = [
             "permittivity",
             "loss_tangent",
             "loss_factor",
             "conductivity",
             "permeability",
+            "density",
+            "specific_heat",
         ];
         let allowed_keys = "permittivity (required), one of loss_tangent / loss_factor (eps'') / \
-                            conductivity (S/m), and optional permeability";
+                            conductivity (S/m), optional permeability, and optional density \
+                            (kg/m³) with specific_heat (J/(kg K))";
         if let Some(k) = t.keys().find(|k| !KEYS.contains(&k.as_str())) {
             return Err(self.invalid(
                 span,
@@ -313,6 +316,36 @@ impl Ctx<'_> {
                 "relative permeability must be > 0 (1 for non-magnetic materials)",
             ));
         }
+        let thermal = match (get("density")?, get("specific_heat")?) {
+            (None, None) => None,
+            (Some(rho), Some(cp)) if rho > 0.0 && cp > 0.0 => Some(Thermal {
+                density: rho,
+                specific_heat: cp,
+                source: "given in the geometry file".to_string(),
+            }),
+            (Some(rho), Some(cp)) => {
+                let (key, v) = if rho <= 0.0 {
+                    ("density", rho)
+                } else {
+                    ("specific_heat", cp)
+                };
+                return Err(self.invalid(span, item, &format!("material.{key}"), v, "must be > 0"));
+            }
+            (rho, _) => {
+                let (key, missing) = if rho.is_some() {
+                    ("density", "specific_heat")
+                } else {
+                    ("specific_heat", "density")
+                };
+                return Err(self.invalid(
+                    span,
+                    item,
+                    &format!("material.{key}"),
+                    t.get(key).map_or(String::new(), |v| v.to_string()),
+                    format!("give {missing} too: the temperature rise needs both"),
+                ));
+            }
+        };
         Ok(Material {
             name: "custom".to_string(),
             dielectric: Dielectric::Constant {
@@ -321,6 +354,7 @@ impl Ctx<'_> {
                 conductivity,
             },
             permeability,
+            thermal,
         })
     }
 }

@@ -42,7 +42,9 @@
 //! - load `temperature` (°C, 0–100, default 20) sets the temperature of `material = "water"`;
 //! - port `name` (default "port1", "port2", … by position), `angle_deg` for `wall = "side"`
 //!   (azimuth of the arc coordinate's origin, default 0), `rotated = true` to put the broad
-//!   side along the wall's second in-plane axis (see [`PortWall`]);
+//!   side along the wall's second in-plane axis (see [`PortWall`]); `power` (W, ≥ 0) and
+//!   `phase_deg` of the incident wave for a driven solve (default: the first port fed at
+//!   the solve's power, the others matched and idle);
 //! - `[mesh]` `import = "file.msh"` (Gmsh MSH 4.1, relative to the geometry file),
 //!   `unit_mm` (mm per file unit, default 1) and a `[mesh.groups]` table mapping physical
 //!   group names to "air", "wall", a load name or a port name; loads need no shape then;

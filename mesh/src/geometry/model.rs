@@ -99,6 +99,12 @@ pub struct Port {
     pub height: f64,
     /// Broad side along the second in-plane axis instead of the first.
     pub rotated: bool,
+    /// Forward power fed through this port in a driven solve (W); None: not given in the
+    /// file (the driven solve then feeds the first port with its default power and
+    /// leaves the others matched and idle).
+    pub power: Option<f64>,
+    /// Phase of the incident wave in a driven solve (degrees; 0 when not given).
+    pub phase_deg: f64,
 }
 
 /// Meshing settings.

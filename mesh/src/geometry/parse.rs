@@ -374,6 +374,23 @@ impl Ctx<'_> {
                 ),
             ));
         }
+        let power = match &p.power {
+            Some(v) if !(v.get_ref().is_finite() && *v.get_ref() >= 0.0) => {
+                return Err(self.invalid(
+                    v.span(),
+                    &item,
+                    "power",
+                    v.get_ref(),
+                    "must be a finite forward power ≥ 0 (W)",
+                ))
+            }
+            Some(v) => Some(*v.get_ref()),
+            None => None,
+        };
+        let phase_deg = match &p.phase_deg {
+            Some(v) => self.finite(v, &item, "phase_deg")?,
+            None => 0.0,
+        };
         let port = Port {
             name,
             wall,
@@ -381,6 +398,8 @@ impl Ctx<'_> {
             width,
             height,
             rotated: p.rotated,
+            power,
+            phase_deg,
         };
         self.port_fits(&port, cavity, rp.span())?;
         Ok(port)

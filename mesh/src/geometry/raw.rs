@@ -56,6 +56,8 @@ pub(super) struct RawPort {
     pub(super) height: Spanned<f64>,
     #[serde(default)]
     pub(super) rotated: bool,
+    pub(super) power: Option<Spanned<f64>>,
+    pub(super) phase_deg: Option<Spanned<f64>>,
 }
 
 #[derive(Deserialize)]
