@@ -60,6 +60,21 @@ pub fn run(args: &MaterialsArgs) -> Result<()> {
     }
     println!();
     println!(
+        "{:<22} {:>12} {:>14}   source (for the temperature rise of `drive --time`)",
+        "dielectric", "ρ (kg/m³)", "c_p (J/kg K)"
+    );
+    for e in &list {
+        if let MaterialValues::Dielectric(m) = &e.values {
+            if let Some(th) = &m.thermal {
+                println!(
+                    "{:<22} {:>12.1} {:>14.0}   {}",
+                    e.name, th.density, th.specific_heat, th.source
+                );
+            }
+        }
+    }
+    println!();
+    println!(
         "{:<22} {:>12} {:>12}   source",
         "metal", "σ (S/m)", "Rs (mΩ)"
     );
@@ -78,7 +93,8 @@ pub fn run(args: &MaterialsArgs) -> Result<()> {
     println!();
     println!(
         "Use a name in a geometry file (`material = \"water\"`, `walls = \"copper\"`), or give \
-         values: material = {{ permittivity = 4.0, loss_tangent = 0.01 }}, \
+         values: material = {{ permittivity = 4.0, loss_tangent = 0.01 }} (add density and \
+         specific_heat for a temperature rise), \
          walls = {{ conductivity = 3.5e7 }}, walls = \"pec\"."
     );
     Ok(())
