@@ -716,7 +716,10 @@ fn thermal_properties() {
         "name = \"w\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [10, 10, 10]\nmaterial = \"water\"",
     ))
     .expect("water");
-    assert!(w.loads[0].material.thermal.is_some(), "built-in water has thermal data");
+    assert!(
+        w.loads[0].material.thermal.is_some(),
+        "built-in water has thermal data"
+    );
     rejects_load(BASE, "name = \"half\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = { permittivity = 4, density = 1000 }", "material", &["load \"half\"", "density", "specific_heat"]);
     rejects_load(BASE, "name = \"neg\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = { permittivity = 4, density = 1000, specific_heat = 0 }", "material", &["load \"neg\"", "specific_heat", "> 0"]);
 }

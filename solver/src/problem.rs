@@ -186,3 +186,30 @@ pub fn solve_geometry<'m>(
     let materials = region_materials(geom, settings.target_hz);
     solve_modes(mesh, &materials, settings, progress)
 }
+
+/// Relative permeability of every mesh region (0 = air, i + 1 = load i).
+pub fn region_permeabilities(geom: &Geometry) -> Vec<f64> {
+    std::iter::once(1.0)
+        .chain(geom.loads.iter().map(|l| l.material.permeability))
+        .collect()
+}
+
+/// Incident power waves ã_p = √P_p e^{jφ_p} (√W) of a driven solve from the ports'
+/// `power` and `phase_deg` keys. When no port gives a power, the first port is fed with
+/// `default_power_w` and the others are matched and idle.
+pub fn drive_amplitudes(geom: &Geometry, default_power_w: f64) -> Vec<faer::c64> {
+    let any = geom.ports.iter().any(|p| p.power.is_some());
+    geom.ports
+        .iter()
+        .enumerate()
+        .map(|(i, p)| {
+            let power = match (any, p.power) {
+                (true, Some(w)) => w,
+                (true, None) => 0.0,
+                (false, _) if i == 0 => default_power_w,
+                (false, _) => 0.0,
+            };
+            faer::c64::from_polar(power.sqrt(), p.phase_deg.to_radians())
+        })
+        .collect()
+}

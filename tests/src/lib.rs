@@ -4,6 +4,7 @@
 //! Every test names its outside reference beside the check; this file holds no
 //! reference values, only the machinery to compare against them.
 
+pub mod driven_cavity;
 pub mod driven_guide;
 pub mod layered_guide;
 

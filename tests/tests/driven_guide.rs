@@ -456,3 +456,63 @@ fn copper_walls_absorb_the_standing_wave_wall_loss() {
     println!("observed rate {rate:.2} (expected 2)");
     assert!(rate >= 1.5, "rate {rate:.2}, errors {errs:?}");
 }
+
+#[test]
+fn driven_resonance_matches_the_mode_figures() {
+    // Modal consistency near an isolated resonance: the window case's gap resonance
+    // (the next ones lie ~1 GHz away). The mode solve gives f, Q_L, κ and the
+    // single-mode predictions |Γ| = |1 − κ|/(1 + κ) (Pozar 4th ed. §6.7, from memory)
+    // and the absorbed share (1 − |Γ|²)(1/Q_d)/(1/Q0) (design notes §3); the driven
+    // solve gives the |S11| minimum and the absorbed fraction there. The single-mode
+    // model is first order in 1/Q_L (coupling, β and the other modes' background vary
+    // across the bandwidth), so |S11|, the absorbed fraction and the frequency (in
+    // bandwidths f/Q_L) are held to 1/Q_L (rule of thumb, no source).
+    use antinode_solver::modes::{solve_modes, ModeSettings};
+    let g = window_case();
+    let model = guide_model(&g, 6, 3, &WINDOW_CELLS);
+    let mats = guide_materials(&g);
+    let mut ms = ModeSettings::new(2.54e9);
+    ms.count = 3;
+    ms.ports = model.frames.clone();
+    let set = solve_modes(&model.mesh, &mats, &ms, &mut |_| {}).expect("modes");
+    // The resonance fed by the port: the mode with the largest coupling.
+    let mode = set
+        .modes
+        .iter()
+        .max_by(|a, b| a.q.coupling[0].total_cmp(&b.q.coupling[0]))
+        .expect("a mode");
+    let (f0, ql) = (mode.frequency_hz, mode.q.q_loaded);
+    let m2 = mats.clone();
+    let materials = move |_f: f64| m2.clone();
+    let settings = guide_settings(&model, NedelecOrder::Two, linspace(2.3e9, 2.8e9, 51));
+    let r = solve_driven(&model.mesh, &[1.0; 4], &materials, &settings, &mut |_| {})
+        .expect("driven solve");
+    // The |S11| minimum on a fine grid of the reduced model (0.1 MHz steps).
+    let mut best = (0.0, f64::INFINITY, 0.0);
+    for f in linspace(f0 - 2.0 * f0 / ql, f0 + 2.0 * f0 / ql, 4001) {
+        let (s, p) = r.model_at(&materials, &settings, f).expect("model");
+        if s[(0, 0)].norm() < best.1 {
+            best = (
+                f,
+                s[(0, 0)].norm(),
+                p.regions_w.iter().sum::<f64>() / p.forward_w,
+            );
+        }
+    }
+    let shift = (best.0 - f0) / (f0 / ql);
+    println!(
+        "mode: f {:.5} GHz, Q_L {ql:.2}, κ {:.3}, |Γ| {:.4}, load share {:.4}\n\
+         driven: |S11| minimum {:.4} at {:.5} GHz ({shift:+.3} bandwidths), absorbed {:.4}",
+        f0 / 1e9,
+        mode.q.coupling[0],
+        mode.q.reflection[0],
+        mode.q.load_power_fraction[0],
+        best.1,
+        best.0 / 1e9,
+        best.2
+    );
+    let tol = 1.0 / ql;
+    assert!(shift.abs() <= tol, "frequency off by {shift} bandwidths");
+    assert!((best.1 - mode.q.reflection[0]).abs() <= tol);
+    assert!((best.2 - mode.q.load_power_fraction[0]).abs() <= tol);
+}
