@@ -58,6 +58,17 @@ enum Command {
     /// DIR/spectrum.svg and, unless --no-fields, one DIR/mode_NNN.vtu per mode (E, H and
     /// heating density for 1 J of stored energy) with a DIR/modes.pvd collection.
     Modes(commands::modes::ModesArgs),
+    /// Feed the cavity through its ports: S-parameters over the band, where the forward
+    /// power goes, and the heating map with its uniformity at the field frequencies.
+    ///
+    /// Meshes the geometry, sweeps the band with a reduced model built by Krylov
+    /// projection of the shifted operator (a few factorisations instead of one per
+    /// frequency; converged to --tolerance), and solves the full field directly at each
+    /// --at frequency. Ports carry `power` (W) and `phase_deg` from the geometry file;
+    /// without them port 1 is fed with --power and the others are matched and idle.
+    /// Writes DIR/response.json, response.csv, response.s<N>p (Touchstone 1.1),
+    /// response.svg, heating_<f>GHz.vtu per field frequency and heating.pvd.
+    Drive(commands::drive::DriveArgs),
     /// List the built-in materials with permittivity and loss at a frequency (metals:
     /// conductivity and surface resistance), with the source of each value.
     Materials(commands::materials::MaterialsArgs),
@@ -68,6 +79,7 @@ fn main() -> ExitCode {
     let result = match cli.command {
         Command::Mesh(a) => commands::mesh::run(&a),
         Command::Modes(a) => commands::modes::run(&a),
+        Command::Drive(a) => commands::drive::run(&a),
         Command::Materials(a) => commands::materials::run(&a),
     };
     match result {

@@ -1,6 +1,7 @@
 //! Progress display on stderr: a spinner with a message per stage. Hidden when stderr
 //! is not a terminal (scripts, CI, pipes), so logs stay clean.
 
+use antinode_solver::driven::DriveStage;
 use antinode_solver::modes::Stage;
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use std::io::IsTerminal;
@@ -46,6 +47,21 @@ impl Spinner {
                 p.restarts, p.converged, p.wanted, p.applications
             ),
             Stage::Checks => "checking residuals and divergence".to_string(),
+        });
+    }
+
+    /// Shows a stage of the driven solve.
+    pub fn drive_stage(&self, stage: DriveStage) {
+        self.set(match stage {
+            DriveStage::Assembly => "assembling the driven system".to_string(),
+            DriveStage::Factorization { freq_hz, n_dofs } => format!(
+                "sweep: factorising at {:.4} GHz ({n_dofs} complex unknowns) and building \
+                 its Krylov space",
+                freq_hz * 1e-9
+            ),
+            DriveStage::Fields { freq_hz } => {
+                format!("fields at {:.4} GHz", freq_hz * 1e-9)
+            }
         });
     }
 

@@ -286,3 +286,135 @@ count = 1
     assert!(m["q_ports"].as_array().is_some_and(|a| a.is_empty()));
     std::fs::remove_dir_all(&dir).unwrap();
 }
+
+/// A small fed copper box with a lossy block carrying thermal data (invented).
+const FED_BLOCK: &str = r#"title = "Test geometry (invented): fed copper box with a lossy block"
+[cavity]
+shape = "box"
+size = [100.0, 80.0, 60.0]
+walls = "copper"
+[[load]]
+name = "block"
+shape = "box"
+min = [10.0, 10.0, 0.0]
+max = [40.0, 40.0, 20.0]
+material = { permittivity = 4.0, loss_tangent = 0.1, density = 1000, specific_heat = 4000 }
+[[port]]
+name = "feed"
+wall = "+x"
+center = [40.0, 30.0]
+width = 70.0
+height = 30.0
+power = 500
+[mesh]
+order = 1
+per_wavelength = 6.0
+[solve]
+target = 2.6
+"#;
+
+#[test]
+fn drive_writes_the_response_files() {
+    let dir = scratch("drive");
+    let geom = dir.join("fed.toml");
+    std::fs::write(&geom, FED_BLOCK).expect("geometry");
+    let out = dir.join("out");
+    let o = antinode(&[
+        "drive",
+        geom.to_str().unwrap(),
+        "-o",
+        out.to_str().unwrap(),
+        "--band",
+        "2.5",
+        "2.7",
+        "--points",
+        "21",
+        "--time",
+        "10",
+        "--spread",
+        "20",
+    ]);
+    assert!(o.status.success(), "drive failed: {}", text(&o.stderr));
+    let stdout = text(&o.stdout);
+    assert!(stdout.contains("caution"), "no safety caution in: {stdout}");
+    for f in [
+        "response.json",
+        "response.csv",
+        "response.s1p",
+        "response.svg",
+        "heating_2.6000GHz.vtu",
+        "heating.pvd",
+    ] {
+        assert!(out.join(f).is_file(), "missing {f}");
+    }
+    let doc: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("response.json")).unwrap())
+            .expect("json");
+    assert_eq!(doc["ports"][0].as_str(), Some("feed"));
+    assert_eq!(doc["frequencies_ghz"].as_array().map(|a| a.len()), Some(21));
+    let fed = doc["drive_w"]["feed"].as_f64().unwrap();
+    assert!((fed - 500.0).abs() < 1e-9, "drive {fed} W");
+    // Energy balance of the discrete model at every frequency (round-off).
+    for p in doc["power"].as_array().expect("power") {
+        let sum = p["reflected"].as_f64().unwrap()
+            + p["walls"].as_f64().unwrap()
+            + p["loads"]["block"].as_f64().unwrap();
+        assert!((sum - 1.0).abs() < 1e-9, "fractions sum to {sum}");
+    }
+    let at = &doc["at"][0];
+    assert_eq!(at["frequency_ghz"].as_f64(), Some(2.6));
+    let u = &at["uniformity"]["block"];
+    for k in [
+        "cov",
+        "max_over_mean",
+        "min_over_mean",
+        "hot_fraction",
+        "cold_fraction",
+    ] {
+        assert!(
+            u[k].as_f64().is_some_and(|v| v >= 0.0),
+            "uniformity {k}: {u}"
+        );
+    }
+    // Calorimetric relation P = m c_p ΔT / t against the absorbed power (common
+    // practice; exact in this no-conduction model).
+    let absorbed = at["absorbed_w"]["block"].as_f64().unwrap();
+    let dt = at["temperature_rise_k"]["block"].as_f64().unwrap();
+    let mass = 1000.0 * 0.03 * 0.03 * 0.02;
+    let cal = mass * 4000.0 * dt / 10.0;
+    assert!(
+        (cal - absorbed).abs() <= 1e-9 * absorbed,
+        "{cal} W vs {absorbed} W"
+    );
+    assert!(at["spread"]["absorbed_w"]["block"].as_f64().is_some());
+    // Touchstone: option line and one data line per frequency.
+    let ts = std::fs::read_to_string(out.join("response.s1p")).unwrap();
+    assert!(ts.contains("# GHZ S RI R 50"));
+    let data = ts
+        .lines()
+        .filter(|l| !l.starts_with('!') && !l.starts_with('#'))
+        .count();
+    assert_eq!(data, 21);
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+#[test]
+fn drive_needs_a_port() {
+    let dir = scratch("drive-noport");
+    let geom = dir.join("closed.toml");
+    std::fs::write(
+        &geom,
+        "title = \"closed (invented)\"\n[cavity]\nshape = \"box\"\nsize = [100.0, 80.0, 60.0]\nwalls = \"copper\"\n",
+    )
+    .expect("geometry");
+    let o = antinode(&[
+        "drive",
+        geom.to_str().unwrap(),
+        "-o",
+        dir.join("o").to_str().unwrap(),
+    ]);
+    assert!(!o.status.success());
+    assert!(text(&o.stderr).contains("port"), "{}", text(&o.stderr));
+    assert!(!dir.join("o").exists(), "nothing may be written");
+    let _ = std::fs::remove_dir_all(&dir);
+}

@@ -213,3 +213,18 @@ pub fn drive_amplitudes(geom: &Geometry, default_power_w: f64) -> Vec<faer::c64>
         })
         .collect()
 }
+
+/// Thermal data of every mesh region (0 = air: none, i + 1 = load i: from its material).
+pub fn region_thermal(geom: &Geometry) -> Vec<Option<crate::driven::loads::Thermal>> {
+    std::iter::once(None)
+        .chain(geom.loads.iter().map(|l| {
+            l.material
+                .thermal
+                .as_ref()
+                .map(|t| crate::driven::loads::Thermal {
+                    density: t.density,
+                    specific_heat: t.specific_heat,
+                })
+        }))
+        .collect()
+}

@@ -1,5 +1,6 @@
 //! The `antinode` commands.
 
+pub mod drive;
 pub mod materials;
 pub mod mesh;
 pub mod modes;

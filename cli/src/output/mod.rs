@@ -2,8 +2,11 @@
 
 pub mod csv;
 pub mod json;
+pub mod response_doc;
+pub mod response_svg;
 pub mod spectrum;
 pub mod summary;
 pub mod table;
 pub mod touchstone;
+pub mod vtk_heating;
 pub mod vtk_modes;

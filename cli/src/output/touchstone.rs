@@ -15,8 +15,7 @@
 
 use std::fmt::Write as _;
 
-/// The file text.
-#[cfg_attr(not(test), allow(dead_code))] // written by `drive` (being added) `s[f][out][in]` = [re, im] of S at `frequencies_ghz[f]`.
+/// The file text. `s[f][out][in]` = [re, im] of S at `frequencies_ghz[f]`.
 pub fn format(
     ports: &[String],
     frequencies_ghz: &[f64],

@@ -9,6 +9,7 @@
 
 pub mod affine;
 pub mod basis;
+pub mod loads;
 pub mod response;
 pub mod solve;
 pub mod sweep;

@@ -205,14 +205,18 @@ pub fn solve_driven<'m>(
     )?;
     let system = op.affine(materials, settings.wall_conductivity);
     let norms = op.constraint.norm.clone();
-    // Check grid: the band frequencies and the spread samples.
     let spread_of = |f: f64| {
         settings
             .spread_hz
             .map(|w| spread_points(f, w, settings.spread_samples))
             .unwrap_or_default()
     };
+    // Check grid: the band frequencies, the midpoints between them (so the model is
+    // checked between the output points too) and the spread samples.
     let mut grid_hz: Vec<f64> = settings.frequencies_hz.clone();
+    let mut sorted = settings.frequencies_hz.clone();
+    sorted.sort_by(f64::total_cmp);
+    grid_hz.extend(sorted.windows(2).map(|w| 0.5 * (w[0] + w[1])));
     for &f in &settings.at_hz {
         grid_hz.extend(spread_of(f));
     }
@@ -472,4 +476,38 @@ pub fn solve_direct(
     let s = s_matrix(&system.outputs(x.as_ref()), &scales);
     let field = drive_field(op, &x, &s, materials, settings, k)?;
     Ok((s, field))
+}
+
+impl DrivenField {
+    /// E at the mesh vertices (volume-weighted averages of the incident cells, V/m): real
+    /// and imaginary parts and the peak magnitude √(|Re E|² + |Im E|²).
+    pub fn vertex_e(&self, space: &crate::fem::Space<'_>) -> VertexField {
+        let re: Vec<[f64; 3]> = crate::post::field::node_values(space, &self.re)
+            .into_iter()
+            .map(|(e, _)| e)
+            .collect();
+        let im: Vec<[f64; 3]> = crate::post::field::node_values(space, &self.im)
+            .into_iter()
+            .map(|(e, _)| e)
+            .collect();
+        let magnitude = re
+            .iter()
+            .zip(&im)
+            .map(|(a, b)| {
+                (0..3)
+                    .map(|k| a[k] * a[k] + b[k] * b[k])
+                    .sum::<f64>()
+                    .sqrt()
+            })
+            .collect();
+        VertexField { re, im, magnitude }
+    }
+}
+
+/// E at the mesh vertices.
+#[derive(Clone, Debug)]
+pub struct VertexField {
+    pub re: Vec<[f64; 3]>,
+    pub im: Vec<[f64; 3]>,
+    pub magnitude: Vec<f64>,
 }
