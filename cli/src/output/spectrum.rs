@@ -1,19 +1,17 @@
-//! `spectrum.svg`: the modes as Lorentzians of their bandwidth and the power each port
-//! couples into the cavity, written by hand as SVG text.
+//! `spectrum.svg`: the modes as Lorentzians of their bandwidth and, per port, each mode's
+//! isolated-resonance coupled power, written by hand as SVG text.
 //!
 //! Curves (δ_i = (f − f_i)/f_i):
 //!
 //! * mode i: L_i(f) = 1 / (1 + (2 Q_L,i δ_i)²), peak normalised to 1, half-power width
 //!   f_i/Q_L,i; a mode with infinite Q_L is drawn as a vertical line;
-//! * port p: 1 − |Γ(f)|², the fraction of the forward power that enters the cavity, with
-//!   each mode a parallel resonator seen from the port (equivalent circuit): normalised
-//!   input admittance y(f) = Σ_i κ_i / (1 + j 2 Q0_i δ_i) (κ_i, Q0_i of mode i for that
-//!   port, the other ports counted as losses), Γ = (1 − y)/(1 + y),
-//!   1 − |Γ|² = 4 Re y / |1 + y|². For one mode this is the exact single-mode response
-//!   4κ / ((1 + κ)² + (2 Q0 δ)²) = (1 − |Γ(f_i)|²) L_i(f) (Q_L = Q0/(1 + κ)). For several
-//!   modes it assumes that all couple to the port in phase (the modes' actual coupling
-//!   phases are not computed), which is an approximation where modes overlap; it never
-//!   exceeds 1.
+//! * port p, mode i: the single-mode response 4κ_i / ((1 + κ_i)² + (2 Q0_i δ_i)²)
+//!   = (1 − |Γ(f_i)|²) L_i(f) (κ_i, Q0_i of mode i for that port, the other ports counted
+//!   as losses; Q_L = Q0/(1 + κ)): the fraction of the forward power that would enter
+//!   through the port if mode i were the only one. Each mode is drawn on its own: the
+//!   modes' coupling phases are not known from the eigen solve, so where modes overlap
+//!   their curves are not summed; the power that actually enters there is the driven
+//!   response of `antinode drive`, which the picture's notes point to.
 
 use antinode_solver::post::band::ISM_BAND_HZ;
 use std::fmt::Write as _;
@@ -59,24 +57,17 @@ fn lorentz(m: &SpectrumMode, f: f64) -> f64 {
     1.0 / (1.0 + d * d)
 }
 
-/// Fraction of port `p`'s forward power entering the cavity at `f` (see module docs).
-pub fn coupled(modes: &[SpectrumMode], p: usize, f: f64) -> f64 {
-    let (mut yr, mut yi) = (0.0, 0.0);
-    for m in modes {
-        let kappa = m.coupling.get(p).copied().unwrap_or(0.0);
-        let qe = m.q_ports.get(p).copied().unwrap_or(f64::INFINITY);
-        if !(kappa.is_finite() && kappa > 0.0 && qe.is_finite()) {
-            continue;
-        }
-        let q0 = kappa * qe;
-        let x = 2.0 * q0 * (f - m.frequency_ghz) / m.frequency_ghz;
-        // κ / (1 + jx) = κ (1 − jx) / (1 + x²)
-        let d = 1.0 + x * x;
-        yr += kappa / d;
-        yi -= kappa * x / d;
+/// Fraction of port `p`'s forward power mode `m` alone would take in at `f` (see the
+/// module docs); None when the mode does not couple to the port.
+pub fn single_mode_coupled(m: &SpectrumMode, p: usize, f: f64) -> Option<f64> {
+    let kappa = m.coupling.get(p).copied().unwrap_or(0.0);
+    let qe = m.q_ports.get(p).copied().unwrap_or(f64::INFINITY);
+    if !(kappa.is_finite() && kappa > 0.0 && qe.is_finite()) {
+        return None;
     }
-    let den = (1.0 + yr) * (1.0 + yr) + yi * yi;
-    4.0 * yr / den
+    let q0 = kappa * qe;
+    let x = 2.0 * q0 * (f - m.frequency_ghz) / m.frequency_ghz;
+    Some(4.0 * kappa / ((1.0 + kappa).powi(2) + x * x))
 }
 
 fn esc(s: &str) -> String {
@@ -297,25 +288,32 @@ fn port_curves(o: &mut String, plot: &Plot, s: &Spectrum, fs: &[f64]) {
     let ph = plot.ph;
     let x = |f: f64| plot.x(f);
     let y = |v: f64| plot.y(v);
-    // Ports.
+    // Ports: each mode's own single-mode curve, not summed.
     for (p, name) in s.ports.iter().enumerate() {
         let colour = PORT_COLOURS[p % PORT_COLOURS.len()];
-        let pts: Vec<String> = fs
-            .iter()
-            .map(|&f| {
-                let v = coupled(s.modes, p, f);
-                format!("{:.2},{:.2}", x(f), y(v))
-            })
-            .collect();
-        let _ = writeln!(
-            o,
-            r#"<polyline points="{}" fill="none" stroke="{colour}" stroke-width="2"/>"#,
-            pts.join(" ")
-        );
+        for m in s.modes {
+            let pts: Vec<String> = fs
+                .iter()
+                .filter(|&&f| {
+                    m.q_loaded.is_finite()
+                        && (f - m.frequency_ghz).abs() < 40.0 * m.frequency_ghz / m.q_loaded
+                })
+                .filter_map(|&f| {
+                    single_mode_coupled(m, p, f).map(|v| format!("{:.2},{:.2}", x(f), y(v)))
+                })
+                .collect();
+            if pts.len() > 1 {
+                let _ = writeln!(
+                    o,
+                    r#"<polyline points="{}" fill="none" stroke="{colour}" stroke-width="1.5"/>"#,
+                    pts.join(" ")
+                );
+            }
+        }
         let ly = TOP + ph + 58.0 + 16.0 * p as f64;
         let _ = writeln!(
             o,
-            r#"<line x1="{LEFT}" y1="{:.2}" x2="{:.2}" y2="{:.2}" stroke="{colour}" stroke-width="2"/><text x="{:.2}" y="{:.2}">port {}: 1 − |Γ(f)|², fraction of forward power entering the cavity</text>"#,
+            r#"<line x1="{LEFT}" y1="{:.2}" x2="{:.2}" y2="{:.2}" stroke="{colour}" stroke-width="2"/><text x="{:.2}" y="{:.2}">port {}: each mode alone, 1 − |Γ|² = 4κ/((1 + κ)² + (2Q0δ)²), share of forward power it would take in</text>"#,
             ly - 4.0,
             LEFT + 24.0,
             ly - 4.0,
@@ -337,8 +335,9 @@ fn port_curves(o: &mut String, plot: &Plot, s: &Spectrum, fs: &[f64]) {
     let mut notes = vec![s.range_note.to_string()];
     if !s.ports.is_empty() {
         notes.push(
-            "port curves: modes as parallel resonators seen from the port, coupling in phase \
-             (equivalent-circuit approximation; exact for an isolated mode)"
+            "port curves: one per mode, exact for an isolated mode and not summed where modes \
+             overlap (their coupling phases are unknown here); `antinode drive` computes the \
+             power that enters"
                 .to_string(),
         );
     }

@@ -204,6 +204,17 @@ fn print_band(doc: &ModesDoc) {
         None => println!("  modal overlap: — (no in-band mode with a finite Q_L)"),
     }
     if !doc.ports.is_empty() {
+        println!(
+            "  feed coupling below: each mode at its own resonance, as if it were alone \
+             (|Γ| = |1 − κ|/(1 + κ)){}",
+            match b.modal_overlap {
+                Some(m) if m >= 1.0 => format!(
+                    "; the modes overlap (overlap {m:.1}), so between and across resonances the \
+                     power that enters needs the driven response: antinode drive"
+                ),
+                _ => "; antinode drive gives the power that enters at every frequency".into(),
+            }
+        );
         if b.good_coupling.is_empty() {
             println!(
                 "  feed couples well (|Γ| ≤ {} at resonance; threshold: common practice, no source): no in-band mode",

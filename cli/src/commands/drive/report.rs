@@ -10,8 +10,35 @@ use anyhow::Result;
 use std::path::Path;
 
 /// Points of the response picture's curves per computed frequency (the reduced model is
-/// cheap to evaluate between them).
+/// cheap to evaluate between them), before refinement.
 const PLOT_DENSITY: usize = 10;
+
+/// Bisection passes over intervals where a curve jumps by more than [`JUMP_DB`] or
+/// [`JUMP_FRACTION`], and the most points the picture gets (resolution choices of the
+/// picture only).
+const REFINE_PASSES: usize = 8;
+const MAX_PLOT_POINTS: usize = 12_000;
+const JUMP_DB: f64 = 0.5;
+const JUMP_FRACTION: f64 = 0.01;
+
+/// The curves at one frequency.
+struct Sample {
+    f: f64,
+    db: Vec<f64>,
+    loads: f64,
+    walls: f64,
+}
+
+impl Sample {
+    fn jumps_to(&self, o: &Sample) -> bool {
+        self.db
+            .iter()
+            .zip(&o.db)
+            .any(|(a, b)| (a - b).abs() > JUMP_DB)
+            || (self.loads - o.loads).abs() > JUMP_FRACTION
+            || (self.walls - o.walls).abs() > JUMP_FRACTION
+    }
+}
 
 /// Mode frequencies of an earlier `modes` run in the output folder, when there is one.
 fn modes_at_hand(dir: &Path) -> Option<(Vec<(usize, f64)>, String)> {
@@ -42,20 +69,43 @@ pub(super) fn plot<'a>(
     materials: &(dyn Fn(f64) -> Vec<RegionMaterial> + Send + Sync),
     dir: &Path,
 ) -> Result<ResponsePlot<'a>> {
-    let n = (r.frequencies_hz.len() * PLOT_DENSITY).clamp(201, 4001);
-    let f_ghz: Vec<f64> = (0..n)
-        .map(|i| band[0] + (band[1] - band[0]) * i as f64 / (n - 1) as f64)
-        .collect();
-    let mut refl = vec![Vec::with_capacity(n); ctx.geom.ports.len()];
-    let (mut loads, mut walls) = (Vec::with_capacity(n), Vec::with_capacity(n));
-    for &f in &f_ghz {
+    let n0 = (r.frequencies_hz.len() * PLOT_DENSITY).clamp(201, 4001);
+    let eval = |f: f64| -> Result<Sample> {
         let (s, p) = r.model_at(materials, ctx.settings, ghz_to_hz(f))?;
-        for (q, v) in refl.iter_mut().enumerate() {
-            v.push(20.0 * s[(q, q)].norm().log10());
+        Ok(Sample {
+            f,
+            db: (0..s.nrows())
+                .map(|q| 20.0 * s[(q, q)].norm().log10())
+                .collect(),
+            loads: p.regions_w.iter().skip(1).sum::<f64>() / p.forward_w,
+            walls: p.walls_w / p.forward_w,
+        })
+    };
+    let mut samples: Vec<Sample> = (0..n0)
+        .map(|i| eval(band[0] + (band[1] - band[0]) * i as f64 / (n0 - 1) as f64))
+        .collect::<Result<_>>()?;
+    // Resonances narrower than the spacing: bisect intervals where a curve jumps.
+    for _ in 0..REFINE_PASSES {
+        let mids: Vec<f64> = samples
+            .windows(2)
+            .filter(|w| w[0].jumps_to(&w[1]))
+            .map(|w| 0.5 * (w[0].f + w[1].f))
+            .collect();
+        if mids.is_empty() || samples.len() + mids.len() > MAX_PLOT_POINTS {
+            break;
         }
-        loads.push(p.regions_w.iter().skip(1).sum::<f64>() / p.forward_w);
-        walls.push(p.walls_w / p.forward_w);
+        for f in mids {
+            samples.push(eval(f)?);
+        }
+        samples.sort_by(|a, b| a.f.total_cmp(&b.f));
     }
+    let n = samples.len();
+    let f_ghz: Vec<f64> = samples.iter().map(|s| s.f).collect();
+    let refl: Vec<Vec<f64>> = (0..ctx.geom.ports.len())
+        .map(|q| samples.iter().map(|s| s.db[q]).collect())
+        .collect();
+    let loads: Vec<f64> = samples.iter().map(|s| s.loads).collect();
+    let walls: Vec<f64> = samples.iter().map(|s| s.walls).collect();
     let (ports, _) = super::document::names(ctx);
     let drive: Vec<String> = ports
         .iter()
