@@ -152,3 +152,42 @@ fn two_ports_are_reciprocal_and_passive() {
     assert!(recip < 1e-8, "reciprocity {recip:e}");
     assert!(bal < CONSERVED && max_out <= 1.0);
 }
+
+#[test]
+fn sweep_agrees_with_direct_solves_at_the_resonances() {
+    // The check grid of a sweep is coarser than the narrowest resonances (Q_L up to ~3000
+    // here: 0.8 MHz bandwidth against 2.5 MHz grid spacing), so the model is also checked
+    // at the resonant frequencies of the mode solve, where S changes fastest.
+    use antinode_solver::modes::{solve_modes, ModeSettings};
+    let (mesh, frames) = fed_box(1, false);
+    let mats = materials();
+    let s = settings(&frames, linspace(2.3e9, 2.6e9, 121));
+    let r = solve_driven(&mesh, &[1.0, 1.0], &mats, &s, &mut |_| {}).expect("sweep");
+    let mut ms = ModeSettings::new(2.45e9);
+    ms.band_hz = Some([2.3e9, 2.6e9]);
+    ms.ports = frames.clone();
+    ms.wall_conductivity = Some(COPPER);
+    let set = solve_modes(&mesh, &fed_box_materials(), &ms, &mut |_| {}).expect("modes");
+    let mut worst: f64 = 0.0;
+    let in_band: Vec<_> = set
+        .modes
+        .iter()
+        .filter(|m| m.frequency_hz > 2.3e9 && m.frequency_hz < 2.6e9)
+        .collect();
+    for m in &in_band {
+        let f = m.frequency_hz;
+        let (direct, _) = solve_direct(&r.operator, &mats, &s, f).expect("direct");
+        let (model, _) = r.model_at(&mats, &s, f).expect("model");
+        let d = (direct[(0, 0)] - model[(0, 0)]).norm();
+        println!(
+            "  mode at {:.5} GHz (Q_L {:.0}): |S11| direct {:.6}, sweep {:.6}, |ΔS| {d:.1e}",
+            f / 1e9,
+            m.q.q_loaded,
+            direct[(0, 0)].norm(),
+            model[(0, 0)].norm()
+        );
+        worst = worst.max(d);
+    }
+    println!("max |ΔS| at {} resonances: {worst:.1e}", in_band.len());
+    assert!(worst <= s.sweep.tolerance);
+}
