@@ -62,7 +62,8 @@ pub fn uniformity(cells: &[(f64, f64)]) -> Option<Uniformity> {
             (lo.min(q), hi.max(q))
         });
     let share = |keep: &dyn Fn(f64) -> bool| {
-        cells.iter().filter(|c| keep(c.0)).map(|c| c.1).sum::<f64>() / volume
+        // `+ 0.0`: an empty sum is −0.0.
+        (cells.iter().filter(|c| keep(c.0)).map(|c| c.1).sum::<f64>() + 0.0) / volume
     };
     Some(Uniformity {
         mean,
