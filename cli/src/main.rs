@@ -66,8 +66,9 @@ enum Command {
     /// frequency; converged to --tolerance), and solves the full field directly at each
     /// --at frequency. Ports carry `power` (W) and `phase_deg` from the geometry file;
     /// without them port 1 is fed with --power and the others are matched and idle.
-    /// Writes DIR/response.json, response.csv, response.s<N>p (Touchstone 1.1),
-    /// response.svg, heating_<f>GHz.vtu per field frequency and heating.pvd.
+    /// Writes DIR/response.json, response.csv, `response.s<N>p` (Touchstone 1.1),
+    /// response.svg, `heating_<f>GHz.vtu` per field frequency and heating.pvd.
+    #[command(after_long_help = SAFETY)]
     Drive(commands::drive::DriveArgs),
     /// List the built-in materials with permittivity and loss at a frequency (metals:
     /// conductivity and surface resistance), with the source of each value.

@@ -53,7 +53,7 @@
 //!
 //! Every key is checked: unknown keys, out-of-range values, loads outside the cavity or
 //! overlapping each other (touching is allowed), ports that do not fit on their wall and
-//! duplicate names are rejected with a [`GeometryError`] naming file, line, entry and value.
+//! duplicate names are rejected with a [`GeometryError`](crate::error::GeometryError) naming file, line, entry and value.
 
 mod context;
 mod load;

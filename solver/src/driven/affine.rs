@@ -136,7 +136,7 @@ impl AffineSystem<'_> {
         y
     }
 
-    /// Y = Σ_i w_i[c] A_i X[:, c] for every column c, with per-column weights
+    /// Y = Σ_i w_i(c) A_i X(:, c) for every column c, with per-column weights
     /// (`weights[c][i]`): the operator at a different parameter for each column. One
     /// pass over each A_i for the whole block (real and imaginary parts together).
     pub fn apply_columnwise(

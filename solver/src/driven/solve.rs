@@ -109,7 +109,7 @@ pub struct SweepReport {
 pub struct DrivenResponse<'m> {
     pub operator: DrivenOperator<'m>,
     pub frequencies_hz: Vec<f64>,
-    /// S per frequency (P × P, [out][in]).
+    /// S per frequency (P × P, row = out, column = in).
     pub s: Vec<Mat<c64>>,
     /// The drive's power split per frequency (reduced model).
     pub power: Vec<PowerSplit>,

@@ -8,7 +8,7 @@
 //!
 //! 1. At an expansion point k_e, factorise A_e = A(k_e). With s = k², the operator's
 //!    derivative D_e = −dA/ds (k_e) = −(1/2k_e) Σ_i α_i′(k_e) A_i. The block Krylov space
-//!    span{R_0, A_e⁻¹D_e R_0, (A_e⁻¹D_e)² R_0, …}, R_0 = A_e⁻¹ B (B = [b_p]), holds the
+//!    span{R_0, A_e⁻¹D_e R_0, (A_e⁻¹D_e)² R_0, …}, R_0 = A_e⁻¹ B (B = (b_1 … b_P)), holds the
 //!    Taylor moments of x(s) = A(s)⁻¹F(s) at s_e for the part of A linear in s
 //!    (K − s M) and, exactly, for rank-one terms on the source unknowns (the ports:
 //!    their k-dependence only adds multiples of A_e⁻¹ b_p, already in R_0); the remaining
