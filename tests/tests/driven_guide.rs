@@ -6,10 +6,16 @@
 //! so the only error is the discretisation's. Order-2 Nédélec elements converge like
 //! h⁴ in eigenvalues (Boffi, Acta Numerica 19 (2010), from memory); the S-parameters
 //! and absorbed powers here are quadratic outputs of the same symmetric problem and
-//! showed the same rate (measured: 17–21× per halving of h on three single-layer cases
-//! while this test was written). The tests assert an observed rate of at least 3
-//! between two meshes (a margin below 4 for the pre-asymptotic coarse mesh; rule of
-//! thumb, no source) and print the errors. Quantities the discrete model conserves
+//! showed the same rate where the field error dominates (measured: 17–21× per halving of
+//! h on three single-layer cases while this test was written). Below |ΔS| ≈ 1e-4 a
+//! second, O(h²) error appears (measured on an air + εr = 4 short: 3.6e-5 → 1.4e-5 from
+//! 7 to 4.7 mm cells, rate 2.3, about the same at every frequency); the likely source is
+//! the port model, whose TE10 constraint uses the aperture trace space of order-2
+//! first-kind elements (complete linear polynomials: L2 error O(h²); see
+//! `antinode_solver::fem::port`). The default tests, whose coarse-mesh errors are
+//! 1e-3–1e-2, assert an observed rate of at least 3 between two meshes (a margin below 4;
+//! rule of thumb, no source); the slow several-case test, whose errors reach 1e-5,
+//! asserts at least 1.5 (below that second term's 2). All errors are printed. Quantities the discrete model conserves
 //! exactly are held to round-off: the energy identity of `antinode_solver::driven::system`
 //! (forward = reflected + absorbed, PEC walls) and the sum of the cell heating against
 //! the absorbed power of the quadratic forms.
@@ -33,8 +39,12 @@ const B: f64 = 0.04318;
 /// ~10⁴–10⁵ terms of solutions accurate to ~1e-12 (common practice, no source).
 const CONSERVED: f64 = 1e-9;
 
-/// Lowest acceptable observed convergence rate (see the module docs).
+/// Lowest acceptable observed convergence rate where the h⁴ field error dominates (see
+/// the module docs).
 const MIN_RATE: f64 = 3.0;
+
+/// Lowest acceptable rate once the O(h²) port term shows (see the module docs).
+const MIN_RATE_FLOOR: f64 = 1.5;
 
 fn guide(layers: Vec<Layer>, termination: Termination) -> LayeredGuide {
     LayeredGuide {
@@ -68,7 +78,41 @@ const WINDOW_CELLS: [usize; 4] = [2, 7, 3, 3];
 struct Solved {
     model: GuideModel,
     response: DrivenResponse<'static>,
+    settings: antinode_solver::driven::DriveSettings,
+    materials: Vec<antinode_solver::RegionMaterial>,
     seconds: f64,
+}
+
+/// The sweep against independent direct solves (own factorisation each) at `n`
+/// frequencies between the sweep's points, spread over the band: max |ΔS| printed and
+/// held to the sweep's stated tolerance (an estimate of the error between successive
+/// reduced models).
+fn check_sweep(s: &Solved, n: usize) -> f64 {
+    let f = &s.response.frequencies_hz;
+    let mats = s.materials.clone();
+    let materials = move |_f: f64| mats.clone();
+    let mut worst: f64 = 0.0;
+    for i in 0..n {
+        let j = (i * (f.len() - 1)) / n;
+        let fc = 0.5 * (f[j] + f[j + 1]);
+        let (direct, _) =
+            solve_direct(&s.response.operator, &materials, &s.settings, fc).expect("direct");
+        let (model, _) = s
+            .response
+            .model_at(&materials, &s.settings, fc)
+            .expect("model");
+        for q in 0..direct.nrows() {
+            for p in 0..direct.ncols() {
+                worst = worst.max((direct[(q, p)] - model[(q, p)]).norm());
+            }
+        }
+    }
+    println!("  sweep vs {n} direct solves between its points: max |ΔS| {worst:.1e}");
+    assert!(
+        worst <= s.settings.sweep.tolerance,
+        "sweep off by {worst:e}"
+    );
+    worst
 }
 
 /// Solve `g` at refinement `r` (every cell count × r) over `band`, with the field at
@@ -88,6 +132,8 @@ fn solve(g: &LayeredGuide, cells: &[usize], r: usize, band: &[f64], at: &[f64]) 
     Solved {
         model,
         response,
+        settings,
+        materials: guide_materials(g),
         seconds: t.elapsed().as_secs_f64(),
     }
 }
@@ -132,6 +178,9 @@ fn layered_short_converges_to_the_transmission_line() {
     let mut hs = Vec::new();
     for r in [1, 2] {
         let s = solve(&g, &WINDOW_CELLS, r, &band, &[f_res]);
+        if r == 1 {
+            check_sweep(&s, 5);
+        }
         let (e_s, e_abs, e_bal) = band_errors(&g, &s.response, true);
         println!(
             "refinement {r}: {} unknowns, {:.2} s (sweep: {} expansion points, basis {}); \
@@ -247,6 +296,9 @@ fn empty_short_reflects_everything() {
     let mut errs = Vec::new();
     for r in [1, 2] {
         let s = solve(&g, &[7], r, &band, &[]);
+        if r == 1 {
+            check_sweep(&s, 5);
+        }
         let worst_mag = s
             .response
             .s
@@ -277,6 +329,7 @@ fn graded_lossy_load_is_matched() {
     let g = guide(layers, Termination::Short);
     let band = linspace(2.3e9, 2.6e9, 7);
     let s = solve(&g, &[3; 8], 1, &band, &[]);
+    check_sweep(&s, 5);
     let (e_s, e_abs, e_bal) = band_errors(&g, &s.response, false);
     let worst = s
         .response
@@ -315,6 +368,9 @@ fn two_port_section_is_reciprocal_and_passive() {
     let mut errs = Vec::new();
     for r in [1, 2] {
         let s = solve(&g, &[4, 4, 4], r, &band, &[]);
+        if r == 1 {
+            check_sweep(&s, 5);
+        }
         let mut worst = (0.0f64, 0.0f64, 0.0f64);
         for (i, &f) in band.iter().enumerate() {
             let m = &s.response.s[i];
@@ -515,4 +571,60 @@ fn driven_resonance_matches_the_mode_figures() {
     assert!(shift.abs() <= tol, "frequency off by {shift} bandwidths");
     assert!((best.1 - mode.q.reflection[0]).abs() <= tol);
     assert!((best.2 - mode.q.load_power_fraction[0]).abs() <= tol);
+}
+
+#[test]
+#[ignore = "about 1 min: four layered cases on two meshes"]
+fn several_layered_shorts_converge() {
+    // Lossless and lossy layers of several thicknesses on the short (invented cases);
+    // cells through a layer: its optical thickness d√|εr| over 10 mm, at least 2.
+    let cases: Vec<(&str, Vec<Layer>)> = vec![
+        (
+            "air 40 mm + lossless εr 4, 30 mm",
+            vec![Layer::new(0.04, 1.0, 0.0), Layer::new(0.03, 4.0, 0.0)],
+        ),
+        (
+            "air 60 mm + thin lossy εr 20 − 4j, 4 mm",
+            vec![Layer::new(0.06, 1.0, 0.0), Layer::new(0.004, 20.0, 4.0)],
+        ),
+        (
+            "thick lossy εr 10 − 3j, 25 mm",
+            vec![Layer::new(0.025, 10.0, 3.0)],
+        ),
+        (
+            "air 30 mm + εr 5 − 1j, 10 mm + εr 40 − 12j, 8 mm",
+            vec![
+                Layer::new(0.03, 1.0, 0.0),
+                Layer::new(0.01, 5.0, 1.0),
+                Layer::new(0.008, 40.0, 12.0),
+            ],
+        ),
+    ];
+    let band = linspace(2.3e9, 2.6e9, 13);
+    for (name, layers) in cases {
+        let g = guide(layers, Termination::Short);
+        let cells: Vec<usize> = g
+            .layers
+            .iter()
+            .map(|l| ((l.thickness * l.eps.norm().sqrt() / 0.01).ceil() as usize).max(2))
+            .collect();
+        let mut errs = Vec::new();
+        for r in [1, 2] {
+            let s = solve(&g, &cells, r, &band, &[]);
+            if r == 1 {
+                check_sweep(&s, 5);
+            }
+            let (e_s, e_abs, e_bal) = band_errors(&g, &s.response, false);
+            println!(
+                "{name}, refinement {r}: {} unknowns, max |ΔS11| {e_s:.2e}, max |Δ absorbed| \
+                 {e_abs:.2e}, balance {e_bal:.1e}",
+                s.response.operator.n()
+            );
+            assert!(e_bal < CONSERVED);
+            errs.push(e_s);
+        }
+        let rate = observed_order(errs[0], 1.0, errs[1], 0.5);
+        println!("  observed rate {rate:.2}");
+        assert!(rate >= MIN_RATE_FLOOR, "{name}: rate {rate:.2}");
+    }
 }
