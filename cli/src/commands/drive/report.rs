@@ -209,5 +209,11 @@ pub(super) fn print_summary(doc: &ResponseDoc, r: &DrivenResponse<'_>) {
             a.sweep_vs_direct
         );
     }
+    if doc.at.iter().any(|a| a.field.temperature.is_some()) {
+        println!(
+            "temperature rise: first order (no conduction, constant properties, no phase \
+             change): a rise that would boil water or melt a load is outside the model"
+        );
+    }
     println!("{CAUTION}");
 }
