@@ -6,7 +6,7 @@ pub mod mesh;
 pub mod modes;
 
 use antinode_mesh::Geometry;
-use anyhow::{Context, Result};
+use anyhow::{bail, Context, Result};
 use std::path::{Path, PathBuf};
 
 /// Reads a geometry file; the library's message already names file, line and value.
@@ -32,4 +32,43 @@ pub fn output_dir(given: Option<&Path>, geometry: &Path) -> PathBuf {
 pub fn create_dir(dir: &Path) -> Result<()> {
     std::fs::create_dir_all(dir)
         .with_context(|| format!("cannot create output directory {}", dir.display()))
+}
+
+/// A command-line number that must be finite and positive.
+pub fn positive(name: &str, v: f64) -> Result<f64> {
+    if v.is_finite() && v > 0.0 {
+        Ok(v)
+    } else {
+        bail!("{name} {v} must be a positive number")
+    }
+}
+
+/// Mesh settings from the command line, shared by the solving commands.
+#[derive(clap::Args)]
+pub struct MeshOptions {
+    /// Nédélec element order: 1 (fast, error ~h²) or 2 (accurate, error ~h⁴).
+    #[arg(long, value_name = "1|2")]
+    pub order: Option<u8>,
+    /// Elements per local wavelength (overrides [mesh] per_wavelength).
+    #[arg(long, value_name = "X")]
+    pub per_wavelength: Option<f64>,
+    /// Largest element edge anywhere, mm (overrides [mesh] max_size).
+    #[arg(long, value_name = "MM")]
+    pub max_size: Option<f64>,
+}
+
+impl MeshOptions {
+    /// Apply the given options to the geometry's `[mesh]` table (before meshing).
+    pub fn apply(&self, geom: &mut Geometry) -> Result<()> {
+        if let Some(o) = self.order {
+            geom.mesh.order = o;
+        }
+        if let Some(p) = self.per_wavelength {
+            geom.mesh.per_wavelength = positive("--per-wavelength", p)?;
+        }
+        if let Some(m) = self.max_size {
+            geom.mesh.max_size = positive("--max-size", m)?;
+        }
+        Ok(())
+    }
 }

@@ -1,5 +1,6 @@
 //! `antinode modes`: mesh, memory check, eigen solve, table and files.
 
+use super::positive;
 use crate::budget::available_bytes;
 use crate::output::json::{ModesDoc, PlanFigures, RegionInfo, SolveFigures};
 use crate::output::spectrum::{self, Spectrum, SpectrumMode};
@@ -47,15 +48,8 @@ pub struct ModesArgs {
     /// Find at least N modes nearest the target (overrides [solve] count).
     #[arg(long, value_name = "N")]
     pub count: Option<usize>,
-    /// Nédélec element order: 1 (fast, error ~h²) or 2 (accurate, error ~h⁴).
-    #[arg(long, value_name = "1|2")]
-    pub order: Option<u8>,
-    /// Elements per local wavelength (overrides [mesh] per_wavelength).
-    #[arg(long, value_name = "X")]
-    pub per_wavelength: Option<f64>,
-    /// Largest element edge anywhere, mm (overrides [mesh] max_size).
-    #[arg(long, value_name = "MM")]
-    pub max_size: Option<f64>,
+    #[command(flatten)]
+    pub mesh: super::MeshOptions,
     /// Solve even when the memory estimate exceeds the memory available.
     #[arg(long)]
     pub allow_large: bool,
@@ -65,14 +59,6 @@ pub struct ModesArgs {
     /// What to print on stdout.
     #[arg(long, value_enum, default_value_t = Format::Table)]
     pub format: Format,
-}
-
-fn positive(name: &str, v: f64) -> Result<f64> {
-    if v.is_finite() && v > 0.0 {
-        Ok(v)
-    } else {
-        bail!("{name} {v} must be a positive number")
-    }
 }
 
 pub fn run(args: &ModesArgs) -> Result<()> {
@@ -219,15 +205,7 @@ fn apply_overrides(args: &ModesArgs, geom: &mut Geometry) -> Result<Option<Strin
         }
         geom.solve.count = Some(c);
     }
-    if let Some(o) = args.order {
-        geom.mesh.order = o;
-    }
-    if let Some(p) = args.per_wavelength {
-        geom.mesh.per_wavelength = positive("--per-wavelength", p)?;
-    }
-    if let Some(m) = args.max_size {
-        geom.mesh.max_size = positive("--max-size", m)?;
-    }
+    args.mesh.apply(geom)?;
     Ok(band_from)
 }
 

@@ -6,6 +6,7 @@ pub mod response_doc;
 pub mod response_svg;
 pub mod spectrum;
 pub mod summary;
+pub mod svg;
 pub mod table;
 pub mod touchstone;
 pub mod vtk_heating;

@@ -6,6 +6,7 @@
 //! model evaluated densely; the resonant frequencies of a `modes` run, when one is at
 //! hand, are marked with their index.
 
+use super::svg::{esc, tick_step};
 use std::fmt::Write as _;
 
 /// What to draw.
@@ -30,29 +31,6 @@ const LEFT: f64 = 80.0;
 const RIGHT: f64 = 80.0;
 const TOP: f64 = 70.0;
 const COLOURS: [&str; 4] = ["#d95f02", "#1b9e77", "#7570b3", "#e7298a"];
-
-fn esc(s: &str) -> String {
-    s.replace('&', "&amp;")
-        .replace('<', "&lt;")
-        .replace('>', "&gt;")
-        .replace('"', "&quot;")
-}
-
-/// A "nice" tick step (1, 2 or 5 × 10^k) for about `n` ticks over `span`.
-fn tick_step(span: f64, n: f64) -> f64 {
-    let raw = span / n;
-    let p = 10f64.powf(raw.log10().floor());
-    let m = raw / p;
-    p * if m < 1.5 {
-        1.0
-    } else if m < 3.5 {
-        2.0
-    } else if m < 7.5 {
-        5.0
-    } else {
-        10.0
-    }
-}
 
 /// The SVG document.
 pub fn svg(p: &ResponsePlot<'_>) -> String {

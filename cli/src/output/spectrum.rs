@@ -13,6 +13,7 @@
 //!   their curves are not summed; the power that actually enters there is the driven
 //!   response of `antinode drive`, which the picture's notes point to.
 
+use super::svg::{esc, tick_step};
 use antinode_solver::post::band::ISM_BAND_HZ;
 use std::fmt::Write as _;
 
@@ -68,29 +69,6 @@ pub fn single_mode_coupled(m: &SpectrumMode, p: usize, f: f64) -> Option<f64> {
     let q0 = kappa * qe;
     let x = 2.0 * q0 * (f - m.frequency_ghz) / m.frequency_ghz;
     Some(4.0 * kappa / ((1.0 + kappa).powi(2) + x * x))
-}
-
-fn esc(s: &str) -> String {
-    s.replace('&', "&amp;")
-        .replace('<', "&lt;")
-        .replace('>', "&gt;")
-        .replace('"', "&quot;")
-}
-
-/// A "nice" tick step (1, 2 or 5 × 10^k) for about `n` ticks over `span`.
-fn tick_step(span: f64, n: f64) -> f64 {
-    let raw = span / n;
-    let p = 10f64.powf(raw.log10().floor());
-    let m = raw / p;
-    p * if m < 1.5 {
-        1.0
-    } else if m < 3.5 {
-        2.0
-    } else if m < 7.5 {
-        5.0
-    } else {
-        10.0
-    }
 }
 
 /// Sample frequencies: a uniform grid plus dense points around each narrow mode so that

@@ -7,6 +7,7 @@
 mod document;
 mod report;
 
+use super::positive;
 use crate::budget::available_bytes;
 use crate::output::response_doc;
 use crate::output::response_svg;
@@ -73,15 +74,8 @@ pub struct DriveArgs {
     /// frequency (uniform weighting), MHz.
     #[arg(long, value_name = "MHZ")]
     pub spread: Option<f64>,
-    /// Nédélec element order: 1 (fast, error ~h²) or 2 (accurate, error ~h⁴).
-    #[arg(long, value_name = "1|2")]
-    pub order: Option<u8>,
-    /// Elements per local wavelength (overrides [mesh] per_wavelength).
-    #[arg(long, value_name = "X")]
-    pub per_wavelength: Option<f64>,
-    /// Largest element edge anywhere, mm (overrides [mesh] max_size).
-    #[arg(long, value_name = "MM")]
-    pub max_size: Option<f64>,
+    #[command(flatten)]
+    pub mesh: super::MeshOptions,
     /// Largest change of any S-parameter between successive reduced models at which the
     /// sweep stops.
     #[arg(long, value_name = "DS", default_value_t = SweepOptions::default().tolerance)]
@@ -89,14 +83,6 @@ pub struct DriveArgs {
     /// Solve even when the memory estimate exceeds the memory available.
     #[arg(long)]
     pub allow_large: bool,
-}
-
-fn positive(name: &str, v: f64) -> Result<f64> {
-    if v.is_finite() && v > 0.0 {
-        Ok(v)
-    } else {
-        bail!("{name} {v} must be a positive number")
-    }
 }
 
 /// The sweep frequencies (GHz) from --band, --points, --step and the file.
@@ -168,15 +154,7 @@ pub fn run(args: &DriveArgs) -> Result<()> {
             args.geometry.display()
         );
     }
-    if let Some(o) = args.order {
-        geom.mesh.order = o;
-    }
-    if let Some(p) = args.per_wavelength {
-        geom.mesh.per_wavelength = positive("--per-wavelength", p)?;
-    }
-    if let Some(m) = args.max_size {
-        geom.mesh.max_size = positive("--max-size", m)?;
-    }
+    args.mesh.apply(&mut geom)?;
     let power = positive("--power", args.power)?;
     let time = args.time.map(|t| positive("--time", t)).transpose()?;
     let spread = args.spread.map(|s| positive("--spread", s)).transpose()?;
