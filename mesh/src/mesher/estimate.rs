@@ -79,7 +79,7 @@ pub fn estimate(geom: &Geometry, sizes: &[RegionSize]) -> Result<MeshEstimate, M
         h_air_mm: field.h_air,
         h_min_mm: field.h_min(),
     };
-    if !(tets <= ESTIMATE_MARGIN * MAX_TETS as f64) {
+    if tets.is_nan() || tets > ESTIMATE_MARGIN * MAX_TETS as f64 {
         return Err(MesherError::EstimateTooLarge {
             tets,
             triangles,
