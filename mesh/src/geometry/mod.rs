@@ -55,6 +55,7 @@
 //! overlapping each other (touching is allowed), ports that do not fit on their wall and
 //! duplicate names are rejected with a [`GeometryError`](crate::error::GeometryError) naming file, line, entry and value.
 
+pub mod bounds;
 mod context;
 mod load;
 mod model;

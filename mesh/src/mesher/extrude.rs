@@ -21,7 +21,7 @@ pub const MAX_TETS: usize = 40_000_000;
 /// Layer thickness relative to the target size h: as the 2-D point spacing
 /// ([`super::planar::SPACING_FACTOR`]), so prisms have square sides and their tets a mean
 /// edge close to h.
-const LAYER_FACTOR: f64 = super::planar::SPACING_FACTOR;
+pub(super) const LAYER_FACTOR: f64 = super::planar::SPACING_FACTOR;
 
 /// mm → m.
 const MM: f64 = 1e-3;
@@ -136,6 +136,12 @@ pub(crate) fn extrude(
     let n2 = planar.points.len();
     let ntri = planar.tris.len();
     let nl = z.len() - 1;
+    if ntri == 0 || nl == 0 {
+        return Err(MesherError::Settings(format!(
+            "the cross-section gave {ntri} triangles and the height {nl} layers; the cavity \
+             is too small or too flat for the element size"
+        )));
+    }
     let n_tets = 3usize.saturating_mul(ntri).saturating_mul(nl);
     if n_tets > MAX_TETS {
         return Err(MesherError::TooLarge {
