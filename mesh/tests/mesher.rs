@@ -107,7 +107,7 @@ fn analytic_region(geom: &Geometry, p: [f64; 3], margin: f64) -> Option<u32> {
     let mut region = 0;
     for (i, l) in geom.loads.iter().enumerate() {
         let (d_in, z) = match l.shape? {
-            LoadShape::Box { min, max } => {
+            LoadShape::Box { min, max, .. } => {
                 let d = (0..3)
                     .map(|k| (p[k] - min[k]).min(max[k] - p[k]))
                     .fold(f64::INFINITY, f64::min);
@@ -370,7 +370,7 @@ fn mean_edge_where(mesh: &TetMesh, region: u32, keep: impl Fn([f64; 3]) -> bool)
 /// Distances (mm) from a point to a load's footprint in x-y and to its z-range (0 inside).
 fn load_distance_xy_z(shape: Option<LoadShape>, p: [f64; 3]) -> [f64; 2] {
     match shape {
-        Some(LoadShape::Box { min, max }) => {
+        Some(LoadShape::Box { min, max, .. }) => {
             let d: Vec<f64> = (0..3)
                 .map(|k| (min[k] - p[k]).max(p[k] - max[k]).max(0.0))
                 .collect();
@@ -392,7 +392,7 @@ fn load_distance_xy_z(shape: Option<LoadShape>, p: [f64; 3]) -> [f64; 2] {
 /// Euclidean distance (mm) from a point to a load (0 inside).
 fn load_distance(shape: Option<LoadShape>, p: [f64; 3]) -> f64 {
     match shape {
-        Some(LoadShape::Box { min, max }) => {
+        Some(LoadShape::Box { min, max, .. }) => {
             let d: Vec<f64> = (0..3)
                 .map(|k| (min[k] - p[k]).max(p[k] - max[k]).max(0.0))
                 .collect();
@@ -482,6 +482,7 @@ fn load_elements_have_the_requested_size() {
             LoadShape::Box {
                 min: [80.0, 70.0, 40.0],
                 max: [200.0, 190.0, 120.0],
+                angle_deg: 0.0,
             },
             dielectric("ceramic-like", 9.0),
         )],
@@ -524,6 +525,7 @@ fn box_with_bowl_on_plate_and_box_on_floor() {
                 LoadShape::Box {
                     min: [0.0, 0.0, 0.0],
                     max: [60.0, 50.0, 8.0],
+                    angle_deg: 0.0,
                 },
                 dielectric("ptfe-like", 2.1),
             ),
@@ -712,6 +714,7 @@ fn cylinder_cavity_ports_and_loads_touching_the_wall() {
                 LoadShape::Box {
                     min: [-100.0, -60.0, 20.0],
                     max: [-20.0, 40.0, 70.0],
+                    angle_deg: 0.0,
                 },
                 dielectric("ceramic-like", 5.0),
             ),
@@ -790,10 +793,11 @@ fn random_geometry(rng: &mut ChaCha8Rng, size: [f64; 3]) -> Geometry {
             LoadShape::Box {
                 min: [x0, y0, bottom],
                 max: [x0 + w[0], y0 + w[1], bottom + height],
+                angle_deg: 0.0,
             }
         };
         let bb = |s: &LoadShape| match *s {
-            LoadShape::Box { min, max } => (min, max),
+            LoadShape::Box { min, max, .. } => (min, max),
             LoadShape::Cylinder {
                 center,
                 radius,
@@ -840,7 +844,7 @@ fn random_load_placements_seeded() {
         let mesh = mesh_geometry(&g).unwrap_or_else(|e| panic!("case {case}: {e}"));
         let st = check_invariants(&g, &mesh, h_min);
         for (i, l) in g.loads.iter().enumerate() {
-            if let Some(LoadShape::Box { min, max }) = l.shape {
+            if let Some(LoadShape::Box { min, max, .. }) = l.shape {
                 let v = (0..3).map(|k| max[k] - min[k]).product::<f64>() * MM.powi(3);
                 assert!(
                     (st.region_volumes[i + 1] - v).abs() <= 1e-12 * v * mesh.tets.len() as f64,

@@ -115,7 +115,10 @@ impl Outline {
         let mut footprints = Vec::new();
         for sl in &field.loads {
             footprints.push(match sl.shape {
-                LoadShape::Box { min, max } => rect([min[0], min[1]], [max[0], max[1]]),
+                LoadShape::Box { .. } => sl
+                    .shape
+                    .box_footprint()
+                    .map_or_else(Vec::new, |f| f.corners().to_vec()),
                 LoadShape::Cylinder { center, radius, .. } => {
                     circle_angles(center, radius, field, 0.0)
                         .into_iter()
