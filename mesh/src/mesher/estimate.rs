@@ -148,6 +148,6 @@ fn section_area(shape: &CavityShape) -> f64 {
 fn footprint_area(shape: &LoadShape) -> f64 {
     match *shape {
         LoadShape::Cylinder { radius, .. } => std::f64::consts::PI * radius * radius,
-        LoadShape::Box { min, max } => (max[0] - min[0]) * (max[1] - min[1]),
+        LoadShape::Box { min, max, .. } => (max[0] - min[0]) * (max[1] - min[1]),
     }
 }

@@ -244,8 +244,33 @@ pub(crate) fn extrude(
         }
     });
 
-    // Boundary: floor and ceiling copies of the triangles, and the side quads split along
-    // the same diagonals as the prisms; all oriented with outward normals.
+    let (boundary, boundary_tag) = boundary_faces(geom, planar, z);
+
+    let mut regions = vec![RegionInfo {
+        name: "air".to_string(),
+    }];
+    regions.extend(geom.loads.iter().map(|l| RegionInfo {
+        name: l.name.clone(),
+    }));
+    Ok(TetMesh {
+        nodes,
+        tets,
+        tet_region,
+        boundary,
+        boundary_tag,
+        regions,
+    })
+}
+
+/// Boundary: floor and ceiling copies of the triangles, and the side quads split along the
+/// same diagonals as the prisms; all oriented with outward normals, each with its tag.
+fn boundary_faces(
+    geom: &Geometry,
+    planar: &Planar,
+    z: &[f64],
+) -> (Vec<[u32; 3]>, Vec<BoundaryTag>) {
+    let n2 = planar.points.len();
+    let nl = z.len() - 1;
     let mut boundary = Vec::new();
     let mut boundary_tag = Vec::new();
     let top = (nl * n2) as u32;
@@ -279,19 +304,5 @@ pub(crate) fn extrude(
             }
         }
     }
-
-    let mut regions = vec![RegionInfo {
-        name: "air".to_string(),
-    }];
-    regions.extend(geom.loads.iter().map(|l| RegionInfo {
-        name: l.name.clone(),
-    }));
-    Ok(TetMesh {
-        nodes,
-        tets,
-        tet_region,
-        boundary,
-        boundary_tag,
-        regions,
-    })
+    (boundary, boundary_tag)
 }
