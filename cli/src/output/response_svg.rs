@@ -6,7 +6,7 @@
 //! model evaluated densely; the resonant frequencies of a `modes` run, when one is at
 //! hand, are marked with their index.
 
-use super::svg::{esc, tick_step};
+use super::svg::{esc, frame_with_frequency_axis, tick_step};
 use std::fmt::Write as _;
 
 /// What to draw.
@@ -203,16 +203,7 @@ fn axes(o: &mut String, [lo, hi]: [f64; 2], db_min: f64, pw: f64, ph: f64) {
             y_frac(v) + 4.0
         );
     }
-    let _ = writeln!(
-        o,
-        r##"<rect x="{LEFT}" y="{TOP}" width="{pw}" height="{ph}" fill="none" stroke="#333"/>"##
-    );
-    let _ = writeln!(
-        o,
-        r#"<text x="{:.2}" y="{:.2}" text-anchor="middle">frequency (GHz)</text>"#,
-        LEFT + pw / 2.0,
-        TOP + ph + 38.0
-    );
+    frame_with_frequency_axis(o, [LEFT, TOP], pw, ph);
     let _ = writeln!(
         o,
         r#"<text transform="translate(24 {:.2}) rotate(-90)" text-anchor="middle">|S_pp| (dB)</text>"#,

@@ -13,7 +13,7 @@
 //!   their curves are not summed; the power that actually enters there is the driven
 //!   response of `antinode drive`, which the picture's notes point to.
 
-use super::svg::{esc, tick_step};
+use super::svg::{esc, frame_with_frequency_axis, tick_step};
 use antinode_solver::post::band::ISM_BAND_HZ;
 use antinode_solver::post::resonance;
 use std::fmt::Write as _;
@@ -193,16 +193,7 @@ fn frame(o: &mut String, plot: &Plot) {
             y(v) + 4.0
         );
     }
-    let _ = writeln!(
-        o,
-        r##"<rect x="{LEFT}" y="{TOP}" width="{pw}" height="{ph}" fill="none" stroke="#333"/>"##
-    );
-    let _ = writeln!(
-        o,
-        r#"<text x="{:.2}" y="{:.2}" text-anchor="middle">frequency (GHz)</text>"#,
-        LEFT + pw / 2.0,
-        TOP + ph + 38.0
-    );
+    frame_with_frequency_axis(o, [LEFT, TOP], pw, ph);
     let _ = writeln!(
         o,
         r#"<text transform="translate(22 {:.2}) rotate(-90)" text-anchor="middle">fraction (mode curves: peak = 1)</text>"#,
