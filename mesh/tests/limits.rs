@@ -3,10 +3,10 @@
 //!
 //! Geometries are invented test scenarios. Timings are printed, not asserted.
 
-use antinode_mesh::geometry::{
-    Cavity, CavityShape, Geometry, Load, LoadShape, MeshSettings, SolveSettings, WallMetal,
-};
-use antinode_mesh::material::{Dielectric, Material};
+mod common;
+
+use antinode_mesh::geometry::{CavityShape, Geometry, LoadShape};
+use antinode_mesh::material::Material;
 use antinode_mesh::mesher::{element_sizes, estimate, mesh_geometry, MesherError, ESTIMATE_MARGIN};
 use std::time::Instant;
 
@@ -63,28 +63,16 @@ fn too_large_meshes_are_refused_before_meshing() {
     }
 }
 
-fn code_geometry(shape: CavityShape, target: f64, loads: Vec<Load>) -> Geometry {
-    Geometry {
-        title: "invented test scenario".into(),
-        cavity: Cavity {
-            shape,
-            walls: WallMetal::Pec,
-        },
-        loads,
-        ports: vec![],
-        mesh: MeshSettings {
-            order: 1,
-            per_wavelength: 5.0,
-            max_size: 20.0,
-            import: None,
-        },
-        solve: SolveSettings {
-            target,
-            band: None,
-            count: Some(4),
-        },
-        source: None,
-    }
+/// The shared test geometry with this target and these loads.
+fn code_geometry(
+    shape: CavityShape,
+    target: f64,
+    loads: Vec<(&str, LoadShape, Material)>,
+) -> Geometry {
+    let mut g = common::geometry(shape, loads);
+    g.solve.target = target;
+    g.solve.count = Some(4);
+    g
 }
 
 /// Geometries built in code skip the reader: the mesher checks the same bounds (the
@@ -130,26 +118,16 @@ fn mesher_checks_bounds_of_geometries_built_in_code() {
 /// an empty box, a cylinder and a box with a water-like load (observed 0.87–1.09).
 #[test]
 fn estimate_bounds_the_mesh_from_below() {
-    let water = Material {
-        name: "water-like".into(),
-        dielectric: Dielectric::Constant {
-            eps_real: 78.0,
-            eps_imag: 0.0,
-            conductivity: 0.0,
-        },
-        permeability: 1.0,
-        thermal: None,
-    };
-    let load = Load {
-        name: "bowl".into(),
-        shape: Some(LoadShape::Cylinder {
+    let load = (
+        "bowl",
+        LoadShape::Cylinder {
             center: [150.0, 150.0],
             radius: 40.0,
             bottom: 10.0,
             height: 30.0,
-        }),
-        material: water,
-    };
+        },
+        common::dielectric("water-like", 78.0),
+    );
     for g in [
         code_geometry(
             CavityShape::Box {

@@ -3,11 +3,12 @@
 //! Geometries here are invented test scenarios. Each check names its source; "analytic"
 //! means the expected value follows from elementary geometry.
 
-use antinode_mesh::geometry::{
-    Cavity, CavityShape, Geometry, Load, LoadShape, MeshSettings, Port, PortWall, SolveSettings,
-    WallMetal,
-};
-use antinode_mesh::material::{Dielectric, Material};
+mod common;
+
+use common::{dielectric, geometry_with_ports as geometry, MM};
+
+use antinode_mesh::geometry::{CavityShape, Geometry, LoadShape, Port, PortWall};
+use antinode_mesh::material::Material;
 use antinode_mesh::mesher::{element_sizes, mesh_geometry, MesherError, GRADING};
 use antinode_mesh::quality::{dihedral_angles, quality_report, radius_ratio};
 use antinode_mesh::{BoundaryTag, TetMesh};
@@ -17,59 +18,9 @@ use std::collections::HashMap;
 use std::f64::consts::PI;
 use std::time::Instant;
 
-const MM: f64 = 1e-3;
-
-fn dielectric(name: &str, eps: f64) -> Material {
-    Material {
-        name: name.to_string(),
-        dielectric: Dielectric::Constant {
-            eps_real: eps,
-            eps_imag: 0.0,
-            conductivity: 0.0,
-        },
-        permeability: 1.0,
-        thermal: None,
-    }
-}
-
 /// Water-like dielectric, ε′ = 78 (the value design.md §1 uses for water at 2.45 GHz).
 fn water() -> Material {
     dielectric("water-like", 78.0)
-}
-
-fn geometry(
-    shape: CavityShape,
-    loads: Vec<(&str, LoadShape, Material)>,
-    ports: Vec<Port>,
-) -> Geometry {
-    Geometry {
-        title: "invented test scenario".into(),
-        cavity: Cavity {
-            shape,
-            walls: WallMetal::Pec,
-        },
-        loads: loads
-            .into_iter()
-            .map(|(n, s, m)| Load {
-                name: n.into(),
-                shape: Some(s),
-                material: m,
-            })
-            .collect(),
-        ports,
-        mesh: MeshSettings {
-            order: 1,
-            per_wavelength: 5.0,
-            max_size: 20.0,
-            import: None,
-        },
-        solve: SolveSettings {
-            target: 2.45,
-            band: None,
-            count: Some(10),
-        },
-        source: None,
-    }
 }
 
 fn cyl(center: [f64; 2], radius: f64, bottom: f64, height: f64) -> LoadShape {

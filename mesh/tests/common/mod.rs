@@ -3,9 +3,10 @@
 #![allow(dead_code)] // each test file uses its own subset
 
 use antinode_mesh::geometry::{
-    Cavity, CavityShape, Geometry, Load, LoadShape, MeshSettings, SolveSettings, WallMetal,
+    Cavity, CavityShape, Geometry, Load, LoadShape, MeshSettings, Port, SolveSettings, WallMetal,
 };
 use antinode_mesh::material::{Dielectric, Material};
+use antinode_mesh::tet_mesh::{cross, dot, sub};
 use antinode_mesh::TetMesh;
 use std::collections::HashMap;
 
@@ -24,8 +25,17 @@ pub fn dielectric(name: &str, eps: f64) -> Material {
     }
 }
 
-/// An invented test scenario with PEC walls, order 1, 2.45 GHz.
+/// An invented test scenario with PEC walls, order 1, 2.45 GHz, no ports.
 pub fn geometry(shape: CavityShape, loads: Vec<(&str, LoadShape, Material)>) -> Geometry {
+    geometry_with_ports(shape, loads, vec![])
+}
+
+/// [`geometry`] with feed ports.
+pub fn geometry_with_ports(
+    shape: CavityShape,
+    loads: Vec<(&str, LoadShape, Material)>,
+    ports: Vec<Port>,
+) -> Geometry {
     Geometry {
         title: "invented test scenario".into(),
         cavity: Cavity {
@@ -40,7 +50,7 @@ pub fn geometry(shape: CavityShape, loads: Vec<(&str, LoadShape, Material)>) -> 
                 material: m,
             })
             .collect(),
-        ports: vec![],
+        ports,
         mesh: MeshSettings {
             order: 1,
             per_wavelength: 5.0,
@@ -58,11 +68,8 @@ pub fn geometry(shape: CavityShape, loads: Vec<(&str, LoadShape, Material)>) -> 
 
 /// Signed volume of a tetrahedron (positive when right-handed).
 pub fn signed_volume(v: [[f64; 3]; 4]) -> f64 {
-    let d = |i: usize| [v[i][0] - v[0][0], v[i][1] - v[0][1], v[i][2] - v[0][2]];
-    let (a, b, c) = (d(1), d(2), d(3));
-    (a[0] * (b[1] * c[2] - b[2] * c[1]) - a[1] * (b[0] * c[2] - b[2] * c[0])
-        + a[2] * (b[0] * c[1] - b[1] * c[0]))
-        / 6.0
+    let d = |i: usize| sub(v[i], v[0]);
+    dot(d(1), cross(d(2), d(3))) / 6.0
 }
 
 fn sorted3(mut f: [u32; 3]) -> [u32; 3] {
