@@ -74,6 +74,14 @@ pub enum GeometryError {
         source: std::io::Error,
     },
 
+    /// The file is too large, or not text (see [`crate::input`]).
+    #[error("cannot read geometry file {}: {source}", path.display())]
+    Input {
+        path: PathBuf,
+        #[source]
+        source: crate::input::InputError,
+    },
+
     /// TOML syntax error, unknown key, wrong value type or missing required key, as
     /// reported by the TOML reader.
     #[error("{at}{}: {message}", in_item(item))]
@@ -200,7 +208,7 @@ impl GeometryError {
     pub fn location(&self) -> Option<&Location> {
         use GeometryError::*;
         match self {
-            Io { .. } => None,
+            Io { .. } | Input { .. } => None,
             Toml { at, .. }
             | MissingKey { at, .. }
             | InvalidValue { at, .. }
@@ -223,7 +231,7 @@ impl GeometryError {
     /// The geometry file, if known.
     pub fn file(&self) -> Option<&Path> {
         match self {
-            GeometryError::Io { path, .. } => Some(path),
+            GeometryError::Io { path, .. } | GeometryError::Input { path, .. } => Some(path),
             _ => self.location().and_then(|l| l.file.as_deref()),
         }
     }

@@ -7,6 +7,7 @@ use super::raw::*;
 use super::validate::{overlap, tolerance};
 use super::*;
 use crate::error::{GeometryError, Item};
+use crate::input::{read_text_limited, InputError, MAX_GEOMETRY_BYTES};
 use crate::material::{self, MaterialKind, MaterialValues};
 use std::path::Path;
 use toml::Spanned;
@@ -15,13 +16,20 @@ use toml::Spanned;
 const LENGTHS: [f64; 2] = [MIN_LENGTH_MM, MAX_LENGTH_MM];
 
 impl Geometry {
-    /// Reads and validates a geometry file. Relative paths inside it (mesh import) are
+    /// Reads and validates a geometry file (at most [`MAX_GEOMETRY_BYTES`], UTF-8 text).
+    /// Relative paths inside it (mesh import) are
     /// resolved against the file's directory.
     pub fn from_file(path: impl AsRef<Path>) -> Result<Geometry, GeometryError> {
         let path = path.as_ref();
-        let text = std::fs::read_to_string(path).map_err(|source| GeometryError::Io {
-            path: path.to_path_buf(),
-            source,
+        let text = read_text_limited(path, MAX_GEOMETRY_BYTES).map_err(|e| match e {
+            InputError::Io(source) => GeometryError::Io {
+                path: path.to_path_buf(),
+                source,
+            },
+            other => GeometryError::Input {
+                path: path.to_path_buf(),
+                source: other,
+            },
         })?;
         Geometry::from_toml_str(&text, Some(path))
     }

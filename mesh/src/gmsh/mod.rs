@@ -22,6 +22,10 @@
 //!   the tetrahedra, and wall or port triangles must lie on the outer boundary.
 //! - Every load and every port must receive at least one element.
 //!
+//! The file is read with a size limit ([`crate::input::MAX_MSH_BYTES`]); its first bytes
+//! are checked before the rest is read, so a binary MSH file, another format or a device
+//! such as `/dev/zero` is refused at once by name.
+//!
 //! Nodes not used by any tetrahedron are dropped; coordinates are scaled by
 //! `unit_mm * 1e-3` into metres.
 //!
@@ -31,6 +35,7 @@
 
 mod build;
 mod groups;
+mod header;
 mod lexer;
 mod parse;
 mod write;
@@ -95,10 +100,7 @@ pub fn import_msh(
     load_names: &[String],
     port_names: &[String],
 ) -> Result<TetMesh, ImportError> {
-    let text = std::fs::read_to_string(path).map_err(|source| ImportError::Io {
-        path: path.to_path_buf(),
-        source,
-    })?;
+    let text = header::read_msh_text(path)?;
     read_msh(&text, path, import, load_names, port_names)
 }
 
