@@ -155,6 +155,19 @@ pub enum GeometryError {
         detail: String,
     },
 
+    /// Two port apertures share wall area (touching edges are allowed).
+    #[error(
+        "{at}: port \"{port}\" overlaps port \"{other}\" (line {}): {detail}; ports may touch \
+         but not overlap", other_line.map_or("?".to_string(), |l| l.to_string())
+    )]
+    PortsOverlap {
+        at: Box<Location>,
+        port: String,
+        other: String,
+        other_line: Option<usize>,
+        detail: String,
+    },
+
     /// A port rectangle does not lie within its wall.
     #[error("{at}: port \"{port}\" does not fit on wall \"{wall}\": {detail}")]
     PortDoesNotFit {
@@ -184,7 +197,7 @@ pub enum GeometryError {
     )]
     DuplicateName {
         at: Box<Location>,
-        /// "load" or "port".
+        /// "load", "port" or "load and port".
         kind: &'static str,
         name: String,
         first_line: Option<usize>,
@@ -216,6 +229,7 @@ impl GeometryError {
             | UnknownMetal { at, .. }
             | LoadOutsideCavity { at, .. }
             | LoadsOverlap { at, .. }
+            | PortsOverlap { at, .. }
             | PortDoesNotFit { at, .. }
             | PortWrongWall { at, .. }
             | DuplicateName { at, .. }

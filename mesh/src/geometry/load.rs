@@ -21,7 +21,39 @@ impl Ctx<'_> {
                 "every load needs a non-empty name",
             ));
         }
+        if let Err(allowed) = super::names::check_name(&name) {
+            return Err(self.invalid(
+                l.name.span(),
+                &Item::TopLevel,
+                "load name",
+                format!("\"{}\"", super::names::escaped(&name)),
+                allowed,
+            ));
+        }
         let item = Item::Load(name.clone());
+        if importing {
+            let keys = [
+                ("shape", l.shape.as_ref().map(|v| v.span())),
+                ("center", l.center.as_ref().map(|v| v.span())),
+                ("radius", l.radius.as_ref().map(|v| v.span())),
+                ("bottom", l.bottom.as_ref().map(|v| v.span())),
+                ("height", l.height.as_ref().map(|v| v.span())),
+                ("min", l.min.as_ref().map(|v| v.span())),
+                ("max", l.max.as_ref().map(|v| v.span())),
+                ("angle_deg", l.angle_deg.as_ref().map(|v| v.span())),
+            ];
+            if let Some((key, Some(span))) = keys.into_iter().find(|(_, s)| s.is_some()) {
+                return Err(self.invalid(
+                    span.clone(),
+                    &item,
+                    key,
+                    self.text.get(span).unwrap_or(".."),
+                    "conflicts with [mesh] import: the imported mesh gives every load its \
+                     shape (its physical group), so a shape here would be ignored; remove \
+                     shape and its keys, or remove the import",
+                ));
+            }
+        }
         let shape = match &l.shape {
             None if importing => None,
             None => return Err(self.missing(

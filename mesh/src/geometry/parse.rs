@@ -3,6 +3,7 @@
 
 use super::bounds::{self, MAX_LENGTH_MM, MIN_LENGTH_MM};
 use super::context::{fmt_list, number, quoted_list, Ctx, Res};
+use super::ports::{below_cutoff, ports_overlap};
 use super::raw::*;
 use super::validate::{overlap, tolerance};
 use super::*;
@@ -103,13 +104,55 @@ impl Ctx<'_> {
                     first_line: Some(port_lines[k]),
                 });
             }
+            for (k, other) in ports.iter().enumerate() {
+                let tol = tolerance(&cavity.shape);
+                if let Some(detail) = ports_overlap(&port, other, &cavity.shape, tol) {
+                    return Err(GeometryError::PortsOverlap {
+                        at: self.at(rp.span()),
+                        port: port.name,
+                        other: other.name.clone(),
+                        other_line: Some(port_lines[k]),
+                        detail,
+                    });
+                }
+            }
+            if let Some(reason) = below_cutoff(&port, &solve) {
+                return Err(self.invalid(
+                    rp.get_ref().width.span(),
+                    &Item::Port(port.name),
+                    "width",
+                    port.width,
+                    reason,
+                ));
+            }
             ports.push(port);
             port_lines.push(self.line_of(rp.span().start));
         }
 
+        for (port, rp) in ports.iter().zip(&raw.port) {
+            if let Some(k) = loads.iter().position(|l| l.name == port.name) {
+                return Err(GeometryError::DuplicateName {
+                    at: self.at(rp.span()),
+                    kind: "load and port",
+                    name: port.name.clone(),
+                    first_line: Some(load_lines[k]),
+                });
+            }
+        }
+        if let Some(title) = &raw.title {
+            if let Err(allowed) = super::names::check_title(title.get_ref()) {
+                return Err(self.invalid(
+                    title.span(),
+                    &Item::TopLevel,
+                    "title",
+                    format!("\"{}\"", super::names::escaped(title.get_ref())),
+                    allowed,
+                ));
+            }
+        }
         let mesh = self.mesh(raw.mesh.as_ref(), &loads, &ports)?;
         Ok(Geometry {
-            title: raw.title.unwrap_or_default(),
+            title: raw.title.map(Spanned::into_inner).unwrap_or_default(),
             cavity,
             loads,
             ports,
@@ -317,6 +360,16 @@ impl Ctx<'_> {
             Some(n) => n.get_ref().trim().to_string(),
             None => format!("port{}", index + 1),
         };
+        if let Err(allowed) = super::names::check_name(&name) {
+            let span = p.name.as_ref().map_or(rp.span(), |n| n.span());
+            return Err(self.invalid(
+                span,
+                &Item::Port(format!("port{}", index + 1)),
+                "name",
+                format!("\"{}\"", super::names::escaped(&name)),
+                allowed,
+            ));
+        }
         let item = Item::Port(name.clone());
         let wall_name = p.wall.get_ref().trim();
         let (shape_name, allowed) = match cavity {

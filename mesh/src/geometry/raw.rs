@@ -10,7 +10,7 @@ use toml::Spanned;
 #[derive(Deserialize)]
 #[serde(deny_unknown_fields)]
 pub(super) struct RawFile {
-    pub(super) title: Option<String>,
+    pub(super) title: Option<Spanned<String>>,
     pub(super) cavity: Spanned<RawCavity>,
     #[serde(default)]
     pub(super) load: Vec<Spanned<RawLoad>>,

@@ -83,6 +83,21 @@ impl Ctx<'_> {
                 None
             }
             Some(f) => {
+                for (key, v) in [
+                    ("per_wavelength", &m.per_wavelength),
+                    ("max_size", &m.max_size),
+                ] {
+                    if let Some(v) = v {
+                        return Err(self.invalid(
+                            v.span(),
+                            &item,
+                            key,
+                            v.get_ref(),
+                            "conflicts with import: the imported mesh fixes the element \
+                             sizes, so this would be ignored; remove it, or remove the import",
+                        ));
+                    }
+                }
                 let file_str = f.get_ref().trim();
                 if file_str.is_empty() {
                     return Err(self.invalid(
