@@ -2,7 +2,7 @@
 //! Gmsh file when `[mesh] import` is set.
 
 use crate::geometry::Geometry;
-use crate::gmsh::{import_msh, ImportError};
+use crate::gmsh::{check_fit, import_msh, ImportError};
 use crate::mesher::{mesh_geometry, MesherError};
 use crate::tet_mesh::TetMesh;
 
@@ -15,14 +15,17 @@ pub enum MakeMeshError {
     Import(#[from] ImportError),
 }
 
-/// Mesh `geom` with the built-in mesher, or import the mesh it names.
+/// Mesh `geom` with the built-in mesher, or import the mesh it names and check that it
+/// fills `[cavity]` ([`check_fit`]).
 pub fn make_mesh(geom: &Geometry) -> Result<TetMesh, MakeMeshError> {
     match &geom.mesh.import {
         None => Ok(mesh_geometry(geom)?),
         Some(import) => {
             let loads: Vec<String> = geom.loads.iter().map(|l| l.name.clone()).collect();
             let ports: Vec<String> = geom.ports.iter().map(|p| p.name.clone()).collect();
-            Ok(import_msh(&import.file, import, &loads, &ports)?)
+            let mesh = import_msh(&import.file, import, &loads, &ports)?;
+            check_fit(&mesh, &geom.cavity.shape, &import.file)?;
+            Ok(mesh)
         }
     }
 }

@@ -5,6 +5,7 @@
 use super::groups::{Builder, Target};
 use super::ImportError;
 use crate::faces::{sorted3, FaceTable};
+use crate::geometry::bounds::MAX_LENGTH_MM;
 use crate::tet_mesh::{dot, sub, BoundaryTag, RegionInfo, TetMesh};
 use std::collections::HashMap;
 
@@ -65,6 +66,7 @@ impl Builder<'_> {
                 })
                 .collect(),
         };
+        self.check_extent(&mesh, &old_of_new)?;
         self.check_volumes(&mesh)?;
         let faces = FaceTable::new(&mesh.tets);
         if let Some(f) = faces.first_overshared() {
@@ -92,6 +94,7 @@ impl Builder<'_> {
             mesh.boundary.push(tri);
             mesh.boundary_tag.push(BoundaryTag::Wall);
         }
+        self.check_conformity(&mesh, &faces, &old_of_new)?;
         let port_faces = self.tag_ports(&mut mesh, &faces, &boundary_pos, &new_index, &blocks)?;
         self.check_counts(&mesh, &port_faces)?;
         Ok(mesh)
@@ -226,6 +229,28 @@ impl Builder<'_> {
         }
     }
 
+    /// Every coordinate within what a cavity solver can mean ([`MAX_LENGTH_MM`]).
+    fn check_extent(&self, mesh: &TetMesh, old_of_new: &[u32]) -> Result<(), ImportError> {
+        let limit = MAX_LENGTH_MM * 1e-3;
+        for (n, p) in mesh.nodes.iter().enumerate() {
+            if let Some(x) = p.iter().find(|x| x.abs() > limit) {
+                let old = old_of_new[n] as usize;
+                return Err(self.line_err(
+                    self.raw.node_lines[old] as usize,
+                    format!(
+                        "node {} lies {:e} mm from the origin (unit_mm = {}), beyond the {} m \
+                         a cavity solver can mean; check the coordinates and unit_mm",
+                        self.raw.node_tags[old],
+                        x.abs() * 1e3,
+                        self.import.unit_mm,
+                        limit
+                    ),
+                ));
+            }
+        }
+        Ok(())
+    }
+
     /// Degenerate tetrahedra make the element matrices singular.
     fn check_volumes(&self, mesh: &TetMesh) -> Result<(), ImportError> {
         let raw = self.raw;
@@ -238,6 +263,8 @@ impl Builder<'_> {
                     longest = longest.max(dot(e, e).sqrt());
                 }
             }
+            // Node order is free (the solver uses |volume|); an inverted element shows
+            // as a fold against its neighbours (`conformity.rs`).
             let six_v = mesh.signed_volume(t).abs() * 6.0;
             if six_v <= 1e-12 * longest.powi(3) {
                 return Err(self.line_err(

@@ -34,12 +34,15 @@
 //! port.
 
 mod build;
+mod conformity;
+mod fit;
 mod groups;
 mod header;
 mod lexer;
 mod parse;
 mod write;
 
+pub use fit::check_fit;
 pub use write::write_msh;
 
 use crate::geometry::MeshImport;

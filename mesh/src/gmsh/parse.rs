@@ -15,6 +15,8 @@ pub(super) struct RawMsh {
     pub(super) has_entities: bool,
     pub(super) nodes: Vec<[f64; 3]>,
     pub(super) node_tags: Vec<u64>,
+    /// Line of each node's coordinates.
+    pub(super) node_lines: Vec<u32>,
     pub(super) node_index: HashMap<u64, u32>,
     /// Element blocks as (dim, entity tag, line of the block header).
     pub(super) blocks: Vec<(u8, i64, usize)>,
@@ -101,7 +103,7 @@ impl<'a> Parser<'a> {
             Some(t) => Ok(t),
             None => Err(self.err(
                 self.lex.line,
-                format!("the file ends while {what} is expected"),
+                format!("the file ends while {what} is expected (is it truncated?)"),
             )),
         }
     }
@@ -227,10 +229,13 @@ impl<'a> Parser<'a> {
         }
         for needed in ["Nodes", "Elements"] {
             if !seen.contains_key(needed) {
-                return Err(ImportError::Mesh {
-                    path: self.path.to_path_buf(),
-                    message: format!("the file has no ${needed} section"),
-                });
+                return Err(self.err(
+                    self.lex.line,
+                    format!(
+                        "the file has no ${needed} section (it ends at this line: is it \
+                         truncated?)"
+                    ),
+                ));
             }
         }
         Ok(self.raw)
@@ -367,7 +372,16 @@ impl<'a> Parser<'a> {
             }
             let extra = if parametric == 1 { dim as usize } else { 0 };
             for _ in first..first + n {
-                let x = self.real("a node x coordinate")?;
+                let (x, xline) = self.parse_num::<f64>("a node x coordinate", "a number")?;
+                if !x.is_finite() {
+                    return Err(self.err(
+                        xline,
+                        format!("a node x coordinate must be a finite number, found {x}"),
+                    ));
+                }
+                self.raw
+                    .node_lines
+                    .push(u32::try_from(xline).unwrap_or(u32::MAX));
                 let y = self.real("a node y coordinate")?;
                 let z = self.real("a node z coordinate")?;
                 for _ in 0..extra {
