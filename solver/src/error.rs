@@ -42,8 +42,8 @@ pub enum SolverError {
     },
     /// Not enough memory for a workspace.
     #[error(
-        "not enough memory for the {workspace} ({bytes} bytes); use a coarser mesh or \
-         element order 1"
+        "not enough memory for the {workspace} ({bytes} bytes, refused before allocating); \
+         the problem must be made smaller"
     )]
     OutOfMemory {
         /// Which workspace.

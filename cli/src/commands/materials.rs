@@ -9,7 +9,13 @@ use clap::Args;
 #[derive(Args)]
 pub struct MaterialsArgs {
     /// Frequency at which to evaluate permittivity and surface resistance, GHz.
-    #[arg(short = 'f', long, value_name = "GHZ", default_value_t = 2.45)]
+    #[arg(
+        short = 'f',
+        long,
+        value_name = "GHZ",
+        default_value_t = 2.45,
+        allow_negative_numbers = true
+    )]
     pub frequency: f64,
     /// Temperature of water, °C (0–100); other entries are fixed room-temperature values.
     #[arg(short = 't', long, value_name = "C", default_value_t = material::WATER_DEFAULT_TEMPERATURE_C)]

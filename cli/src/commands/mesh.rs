@@ -1,5 +1,6 @@
 //! `antinode mesh`: geometry file → tetrahedral mesh, VTK files and a summary.
 
+use crate::output::folder;
 use crate::progress::Spinner;
 use crate::units;
 use antinode_mesh::{mesher, quality, vtk, Geometry, TetMesh};
@@ -18,6 +19,8 @@ pub struct MeshArgs {
     /// Output folder [default: out/<geometry file name without .toml>].
     #[arg(short = 'o', long = "out", value_name = "DIR")]
     pub out: Option<PathBuf>,
+    #[command(flatten)]
+    pub mesh: super::MeshOptions,
 }
 
 /// Mesh size figures: counts of entities and free unknowns per element order.
@@ -59,14 +62,15 @@ pub fn make(geom: &Geometry) -> Result<(TetMesh, f64)> {
 
 pub fn run(args: &MeshArgs) -> Result<()> {
     let t0 = Instant::now();
-    let geom = super::load_geometry(&args.geometry)?;
+    let mut geom = super::load_geometry(&args.geometry)?;
+    args.mesh.apply(&mut geom)?;
     let sizes = mesher::element_sizes(&geom).context("mesh settings")?;
+    let out = folder::prepare(&super::output_dir(args.out.as_deref(), &args.geometry))?;
     let (mesh, mesh_s) = make(&geom)?;
     let counts = count(&mesh);
     let q = quality::quality_report(&mesh);
 
-    let dir = super::output_dir(args.out.as_deref(), &args.geometry);
-    super::create_dir(&dir)?;
+    let dir = out.dir();
     let quality_values = quality::tet_quality(&mesh);
     let mesh_path = dir.join("mesh.vtu");
     vtk::write_mesh_vtu(
@@ -79,6 +83,8 @@ pub fn run(args: &MeshArgs) -> Result<()> {
     )?;
     let boundary_path = dir.join("boundary.vtu");
     vtk::write_boundary_vtu(&boundary_path, &mesh)?;
+    let out_target = out.target().to_path_buf();
+    out.commit("mesh", &args.geometry)?;
 
     println!("{}", geom.title);
     println!(
@@ -146,11 +152,7 @@ pub fn run(args: &MeshArgs) -> Result<()> {
         q.poor_count,
         q.poor_threshold
     );
-    println!(
-        "wrote {} and {}",
-        mesh_path.display(),
-        boundary_path.display()
-    );
+    println!("wrote {}/mesh.vtu and boundary.vtu", out_target.display());
     println!(
         "time: meshing {:.2} s, total {:.2} s",
         mesh_s,

@@ -4,9 +4,10 @@ pub mod drive;
 pub mod materials;
 pub mod mesh;
 pub mod modes;
+pub mod plan;
 
 use antinode_mesh::Geometry;
-use anyhow::{bail, Context, Result};
+use anyhow::{bail, Result};
 use std::path::{Path, PathBuf};
 
 /// Reads a geometry file; the library's message already names file, line and value.
@@ -26,12 +27,6 @@ pub fn output_dir(given: Option<&Path>, geometry: &Path) -> PathBuf {
             Path::new("out").join(stem)
         }
     }
-}
-
-/// Creates the output directory (only called once the results exist).
-pub fn create_dir(dir: &Path) -> Result<()> {
-    std::fs::create_dir_all(dir)
-        .with_context(|| format!("cannot create output directory {}", dir.display()))
 }
 
 /// A command-line number that must be finite and positive.

@@ -1,13 +1,12 @@
 //! `antinode modes`: mesh, memory check, eigen solve, table and files.
 
-use super::positive;
-use crate::budget::available_bytes;
+use super::{plan, positive};
 use crate::output::json::{ModesDoc, PlanFigures, RegionInfo, SolveFigures};
 use crate::output::spectrum::{self, Spectrum, SpectrumMode};
 use crate::output::summary::{
     self, BandSummary, GoodCoupling, ModeRow, WeylEstimate, GOOD_COUPLING_REFLECTION,
 };
-use crate::output::{csv, json, table, vtk_modes};
+use crate::output::{csv, folder, json, table, vtk_modes};
 use crate::progress::Spinner;
 use crate::units;
 use antinode_mesh::{Geometry, TetMesh};
@@ -15,13 +14,12 @@ use antinode_solver::budget::{self, Plan};
 use antinode_solver::modes::SolveStats;
 use antinode_solver::post::band::{band_figures, BandFigures, GROUP_TOLERANCE, ISM_BAND_HZ};
 use antinode_solver::problem::{region_materials, settings_from, weyl_cavity};
-use antinode_solver::{solve_modes, ModeSet, ModeSettings, RegionMaterial, SolverError};
-use anyhow::{anyhow, bail, Context, Result};
+use antinode_solver::{
+    solve_modes, ModeSet, ModeSettings, NedelecOrder, RegionMaterial, SolverError,
+};
+use anyhow::{anyhow, bail, Result};
 use clap::{Args, ValueEnum};
 use std::path::PathBuf;
-
-/// Share of the available memory a run may plan to use before it is refused.
-const MEMORY_SHARE: f64 = 0.9;
 
 #[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
 pub enum Format {
@@ -53,6 +51,10 @@ pub struct ModesArgs {
     /// Solve even when the memory estimate exceeds the memory available.
     #[arg(long)]
     pub allow_large: bool,
+    /// Plan only: mesh, count the unknowns, estimate memory and time, then stop (writes
+    /// nothing).
+    #[arg(long)]
+    pub plan: bool,
     /// Skip the per-mode field files (mode_NNN.vtu, modes.pvd).
     #[arg(long)]
     pub no_fields: bool,
@@ -68,15 +70,30 @@ pub fn run(args: &ModesArgs) -> Result<()> {
     let settings = settings_from(&geom).map_err(|e| anyhow!("{e} (--order)"))?;
     let order = settings.order;
 
-    let (mesh, mesh_s) = super::mesh::make(&geom)?;
     let mats = region_materials(&geom, settings.target_hz);
+    let basis = budget::basis_size(&settings);
+    let complex = settings.is_complex(&mats);
+    let pre = plan::before_meshing(&geom, order, complex, basis, args.allow_large)?;
+    // The output folder is checked (and its staging folder made) before meshing.
+    let out = match args.plan {
+        true => None,
+        false => Some(folder::prepare(&super::output_dir(
+            args.out.as_deref(),
+            &args.geometry,
+        ))?),
+    };
+    let (mesh, mesh_s) = super::mesh::make(&geom)?;
 
     let (plan, avail) = check_plan(args, &mesh, &mats, &settings)?;
+    let Some(out) = out else {
+        plan::print_plan_only(&plan, pre.as_ref(), mesh.tets.len(), mesh_s);
+        return Ok(());
+    };
 
     let spinner = Spinner::start("solving");
     let result = solve_modes(&mesh, &mats, &settings, &mut |s| spinner.stage(s));
     spinner.finish();
-    let set = result.map_err(with_hint)?;
+    let set = result.map_err(|e| with_hint(e, order))?;
 
     // Rows and band summary. The band is shown in the file's GHz; figures use Hz.
     let target_ghz = geom.solve.target;
@@ -140,20 +157,20 @@ pub fn run(args: &ModesArgs) -> Result<()> {
     };
 
     // Files, only now that the results exist.
-    let dir = super::output_dir(args.out.as_deref(), &args.geometry);
-    super::create_dir(&dir)?;
+    let dir = out.dir();
     json::write(&dir.join("modes.json"), &doc)?;
     csv::write(&dir.join("modes.csv"), &doc.modes, &port_names, &load_names)?;
     let svg = spectrum_svg(&doc, band_explicit);
     let svg_path = dir.join("spectrum.svg");
-    std::fs::write(&svg_path, svg)
-        .with_context(|| format!("cannot write {}", svg_path.display()))?;
+    folder::write_atomic(&svg_path, svg)?;
     if !args.no_fields {
         let spinner = Spinner::start("writing mode fields");
-        let r = vtk_modes::write_all(&dir, &set, &mats);
+        let r = vtk_modes::write_all(dir, &set, &mats);
         spinner.finish();
         r?;
     }
+    let dir = out.target().to_path_buf();
+    out.commit("modes", &args.geometry)?;
 
     match args.format {
         Format::Json => println!("{}", json::to_string(&doc)?),
@@ -220,44 +237,47 @@ fn check_plan(
     let order = settings.order;
     // Unknowns and memory from the solver's plan, before any assembly.
     let plan = budget::plan(mesh, mats, settings);
-    let avail = available_bytes();
-    match avail {
-        Some(a) if plan.memory_bytes > MEMORY_SHARE * a && !args.allow_large => bail!(
-            "this solve would need an estimated {} ({} unknowns at order {}{}, ~{:.2e} factor \
-             entries by the solver's fill estimate), but only {} is available (MemAvailable); \
-             use --order 1, a smaller --per-wavelength or a larger --max-size, or pass \
-             --allow-large to try anyway",
-            units::bytes(plan.memory_bytes),
+    if settings.count > plan.n_dofs {
+        bail!(
+            "--count {} asks for more modes than this problem has unknowns ({} at order {}): \
+             use a smaller --count, or refine the mesh (--per-wavelength, --max-size)",
+            settings.count,
             plan.n_dofs,
-            order.as_int(),
-            if plan.complex {
-                ", complex: solved as a real system of twice the size"
-            } else {
-                ""
-            },
-            plan.factor_entries,
-            units::bytes(a)
-        ),
-        Some(_) => {}
-        None => eprintln!(
-            "note: available memory unknown (/proc/meminfo unreadable); estimated need {}",
-            units::bytes(plan.memory_bytes)
-        ),
+            order.as_int()
+        );
     }
+    let avail = crate::budget::available();
+    // When the eigen basis for a large --count dominates, say so.
+    let usual = budget::estimate(
+        plan.n_dofs,
+        plan.complex,
+        order.per_tet(),
+        settings.eigen.basis,
+    );
+    let basis_note = (plan.memory_bytes > 2.0 * usual.memory_bytes).then(|| {
+        format!(
+            "; most of it the eigen basis of {} vectors for --count {} (use a smaller \
+             --count)",
+            budget::basis_size(settings),
+            settings.count
+        )
+    });
+    plan::check_solve(&plan, order, avail, basis_note, args.allow_large)?;
     if args.format == Format::Table {
         println!(
-            "plan: {} unknowns{}, estimated peak memory {} (solver's estimate){}",
+            "plan: {} unknowns{}{}, estimated peak memory {} (solver's estimate){}",
             plan.n_dofs,
             if plan.complex { " (complex)" } else { "" },
+            plan::port_note(settings.ports.len()),
             units::bytes(plan.memory_bytes),
             match avail {
-                Some(a) => format!(", {} available", units::bytes(a)),
+                Some(a) => format!(", {} available ({})", units::bytes(a.bytes), a.source),
                 None => String::new(),
             }
         );
     }
 
-    Ok((plan, avail))
+    Ok((plan, avail.map(|a| a.bytes)))
 }
 
 /// One row per mode for the table and the documents.
@@ -333,7 +353,8 @@ fn good_couplings(rows: &[ModeRow], in_band: &[usize], port_names: &[String]) ->
 }
 
 /// The solver's error with what to change on this command line.
-fn with_hint(e: SolverError) -> anyhow::Error {
+fn with_hint(e: SolverError, order: NedelecOrder) -> anyhow::Error {
+    let shrink = plan::shrink_hint(order);
     let hint = match &e {
         SolverError::TargetBelowModes => "try a higher --target",
         SolverError::NotConverged { .. } => {
@@ -342,9 +363,7 @@ fn with_hint(e: SolverError) -> anyhow::Error {
         SolverError::FactorFailed { .. } | SolverError::Projection { .. } => {
             "try a slightly different --target"
         }
-        SolverError::OutOfMemory { .. } => {
-            "try --order 1, a smaller --per-wavelength or a larger --max-size"
-        }
+        SolverError::OutOfMemory { .. } => shrink.as_str(),
         SolverError::NoUnknowns => "try a larger --per-wavelength or a smaller --max-size",
         _ => "",
     };

@@ -103,7 +103,7 @@ fn to_string(rows: &[ModeRow], ports: &[String], loads: &[String]) -> Result<Str
 
 pub fn write(path: &Path, rows: &[ModeRow], ports: &[String], loads: &[String]) -> Result<()> {
     let text = to_string(rows, ports, loads)?;
-    std::fs::write(path, text).with_context(|| format!("cannot write {}", path.display()))
+    super::folder::write_atomic(path, text)
 }
 
 #[cfg(test)]

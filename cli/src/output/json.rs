@@ -87,5 +87,5 @@ pub fn to_string(doc: &ModesDoc) -> Result<String> {
 pub fn write(path: &Path, doc: &ModesDoc) -> Result<()> {
     let mut text = to_string(doc)?;
     text.push('\n');
-    std::fs::write(path, text).with_context(|| format!("cannot write {}", path.display()))
+    super::folder::write_atomic(path, text)
 }

@@ -1,6 +1,7 @@
 //! Results as terminal tables, JSON, CSV, VTK files and the spectrum picture.
 
 pub mod csv;
+pub mod folder;
 pub mod json;
 pub mod response_doc;
 pub mod response_svg;

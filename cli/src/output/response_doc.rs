@@ -137,7 +137,7 @@ pub struct ResponseDoc {
 pub fn write_json(path: &Path, doc: &ResponseDoc) -> Result<()> {
     let mut text = serde_json::to_string_pretty(doc).context("encoding the response as JSON")?;
     text.push('\n');
-    std::fs::write(path, text).with_context(|| format!("cannot write {}", path.display()))
+    super::folder::write_atomic(path, text)
 }
 
 /// `response.csv`: one line per frequency: S entries as re, im and dB (20 log10 |S|),

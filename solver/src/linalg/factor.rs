@@ -59,6 +59,20 @@ pub struct SymmetricFactor {
     refine_state: std::sync::atomic::AtomicU8,
 }
 
+/// A zeroed vector of `len` entries, or [`SolverError::OutOfMemory`] when the allocator
+/// refuses it (the factor's values are the largest single allocation of a solve, and a
+/// user's mesh settings decide their size).
+pub fn zeroed(len: usize, workspace: &'static str) -> Result<Vec<f64>, SolverError> {
+    let oom = || SolverError::OutOfMemory {
+        workspace,
+        bytes: len.saturating_mul(std::mem::size_of::<f64>()),
+    };
+    let mut v = Vec::new();
+    v.try_reserve_exact(len).map_err(|_| oom())?;
+    v.resize(len, 0.0);
+    Ok(v)
+}
+
 fn as_faer(a: &SparseMatrix) -> SparseColMatRef<'_, u32, f64> {
     // Full symmetric storage: the CSR arrays are also the CSC arrays of Aᵀ = A.
     let n = a.rows();
@@ -100,7 +114,7 @@ impl SymmetricFactor {
         let len = symbolic.len_val();
         let numeric = match kind {
             FactorKind::Ldlt => {
-                let mut values = vec![0.0; len];
+                let mut values = zeroed(len, "factor values")?;
                 let req = symbolic.factorize_numeric_ldlt_scratch::<f64>(par, Default::default());
                 let mut mem = MemBuffer::try_new(req).map_err(|_| SolverError::OutOfMemory {
                     workspace: "LDLᵀ factorisation workspace",
@@ -125,7 +139,7 @@ impl SymmetricFactor {
             }
             FactorKind::Lblt => {
                 let n = a.rows();
-                let mut values = vec![0.0; len];
+                let mut values = zeroed(len, "factor values")?;
                 let mut subdiag = vec![0.0; n];
                 let mut fwd = vec![0u32; n];
                 let mut inv = vec![0u32; n];

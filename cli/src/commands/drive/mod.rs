@@ -8,10 +8,10 @@ mod document;
 mod report;
 
 use super::positive;
-use crate::budget::available_bytes;
+use crate::budget::available;
 use crate::output::response_doc;
 use crate::output::response_svg;
-use crate::output::{touchstone, vtk_heating};
+use crate::output::{folder, touchstone, vtk_heating};
 use crate::progress::Spinner;
 use crate::units;
 use antinode_mesh::Geometry;
@@ -24,13 +24,10 @@ use antinode_solver::problem::{
     drive_amplitudes, ghz_to_hz, order_of, port_frames, region_materials, region_permeabilities,
     region_thermal,
 };
-use antinode_solver::SolverError;
-use anyhow::{anyhow, bail, Context, Result};
+use antinode_solver::{NedelecOrder, SolverError};
+use anyhow::{anyhow, bail, Result};
 use clap::Args;
 use std::path::PathBuf;
-
-/// Share of the available memory a run may plan to use before it is refused.
-const MEMORY_SHARE: f64 = 0.9;
 
 /// Samples of a source spectrum (`--spread`): midpoints of equal sub-intervals.
 const SPREAD_SAMPLES: usize = 11;
@@ -119,28 +116,17 @@ fn band_frequencies(args: &DriveArgs, geom: &Geometry) -> Result<([f64; 2], Vec<
 fn check_plan(args: &DriveArgs, mesh: &antinode_mesh::TetMesh, geom: &Geometry) -> Result<()> {
     let order = order_of(geom).map_err(|e| anyhow!("{e} (--order)"))?;
     let plan = plan_driven(mesh, order, geom.ports.len());
-    let avail = available_bytes();
-    if let Some(a) = avail {
-        if plan.memory_bytes > MEMORY_SHARE * a && !args.allow_large {
-            bail!(
-                "this solve would need an estimated {} ({} unknowns at order {}, complex: \
-                 solved as a real system of twice the size), but only {} is available \
-                 (MemAvailable); use --order 1, a smaller --per-wavelength or a larger \
-                 --max-size, or pass --allow-large to try anyway",
-                units::bytes(plan.memory_bytes),
-                plan.n_dofs,
-                order.as_int(),
-                units::bytes(a)
-            );
-        }
-    }
+    let avail = available();
+    super::plan::check_solve(&plan, order, avail, None, args.allow_large)?;
     println!(
-        "plan: {} unknowns (complex), estimated peak memory {} (solver's estimate){}",
+        "plan: {} unknowns (complex){}, estimated peak memory {} (solver's estimate){}",
         plan.n_dofs,
+        super::plan::port_note(geom.ports.len()),
         units::bytes(plan.memory_bytes),
         avail.map_or(String::new(), |a| format!(
-            ", {} available",
-            units::bytes(a)
+            ", {} available ({})",
+            units::bytes(a.bytes),
+            a.source
         ))
     );
     Ok(())
@@ -168,6 +154,14 @@ pub fn run(args: &DriveArgs) -> Result<()> {
         None => vec![geom.solve.target],
     };
     let order = order_of(&geom).map_err(|e| anyhow!("{e} (--order)"))?;
+    super::plan::before_meshing(
+        &geom,
+        order,
+        true,
+        antinode_solver::budget::DRIVEN_BASIS_COMPLEX,
+        args.allow_large,
+    )?;
+    let out = folder::prepare(&super::output_dir(args.out.as_deref(), &args.geometry))?;
     let (mesh, mesh_s) = super::mesh::make(&geom)?;
     check_plan(args, &mesh, &geom)?;
 
@@ -195,7 +189,7 @@ pub fn run(args: &DriveArgs) -> Result<()> {
         &mut |s| spinner.drive_stage(s),
     );
     spinner.finish();
-    let r = result.map_err(with_hint)?;
+    let r = result.map_err(|e| with_hint(e, order))?;
 
     let ctx = DriveContext {
         geom: &geom,
@@ -203,14 +197,14 @@ pub fn run(args: &DriveArgs) -> Result<()> {
         thermal: region_thermal(&geom),
         time,
     };
-    let dir = super::output_dir(args.out.as_deref(), &args.geometry);
     let spinner = Spinner::start("field files and figures");
     let doc = document::document(args, &ctx, &r, band, mesh_s);
     let fields = document::field_arrays(&ctx, &r);
-    let plot = report::plot(&ctx, &r, band, &materials, &dir)?;
+    // The modes of an earlier `modes` run into the same folder, if any, mark the picture.
+    let plot = report::plot(&ctx, &r, band, &materials, out.target())?;
     spinner.finish();
 
-    super::create_dir(&dir)?;
+    let dir = out.dir();
     response_doc::write_json(&dir.join("response.json"), &doc)?;
     response_doc::write_csv(&dir.join("response.csv"), &doc)?;
     let sname = format!("response.s{}p", geom.ports.len());
@@ -218,18 +212,17 @@ pub fn run(args: &DriveArgs) -> Result<()> {
         format!("antinode drive {}", args.geometry.display()),
         geom.title.clone(),
     ];
-    std::fs::write(
-        dir.join(&sname),
+    folder::write_atomic(
+        &dir.join(&sname),
         touchstone::format(&doc.ports, &doc.frequencies_ghz, &doc.s, &comments),
-    )
-    .with_context(|| format!("cannot write {}", dir.join(&sname).display()))?;
-    let svg_path = dir.join("response.svg");
-    std::fs::write(&svg_path, response_svg::svg(&plot))
-        .with_context(|| format!("cannot write {}", svg_path.display()))?;
+    )?;
+    folder::write_atomic(&dir.join("response.svg"), response_svg::svg(&plot))?;
     for f in &fields {
-        vtk_heating::write_one(&dir, &mesh, &f.borrowed())?;
+        vtk_heating::write_one(dir, &mesh, &f.borrowed())?;
     }
-    vtk_heating::write_pvd(&dir, &at_ghz)?;
+    vtk_heating::write_pvd(dir, &at_ghz)?;
+    let dir = out.target().to_path_buf();
+    out.commit("drive", &args.geometry)?;
     report::print_summary(&doc, &r);
     println!(
         "wrote {}/response.json, response.csv, {sname}, response.svg, {} heating file(s) \
@@ -249,13 +242,12 @@ pub(super) struct DriveContext<'a> {
 }
 
 /// The solver's error with what to change on this command line.
-fn with_hint(e: SolverError) -> anyhow::Error {
+fn with_hint(e: SolverError, order: NedelecOrder) -> anyhow::Error {
+    let shrink = super::plan::shrink_hint(order);
     let hint = match &e {
         SolverError::PortBelowCutoff { .. } => "raise --band or --at above the cutoff",
         SolverError::FactorFailed { .. } => "move the --at frequencies slightly",
-        SolverError::OutOfMemory { .. } => {
-            "try --order 1, a smaller --per-wavelength or a larger --max-size"
-        }
+        SolverError::OutOfMemory { .. } => shrink.as_str(),
         SolverError::NoUnknowns => "try a larger --per-wavelength or a smaller --max-size",
         _ => "",
     };

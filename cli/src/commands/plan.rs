@@ -1,0 +1,201 @@
+//! The memory plan of a run, before meshing and again once the mesh exists.
+//!
+//! Before meshing: the mesher's element-count estimate (`antinode_mesh::mesher::estimate`)
+//! gives the tetrahedra; `antinode_solver::budget::unknowns_from_tets` turns them into
+//! unknowns and `budget::estimate` into the solver's peak memory; the meshing itself
+//! costs [`MESHING_BYTES_PER_TET`]. The larger of the two is held against the memory
+//! this run may use ([`crate::budget::available`]: MemAvailable or the cgroup limit).
+//! After meshing, the solver's exact plan is checked the same way (in `modes` and
+//! `drive`). Both refusals name the options that shrink the run, never one the run
+//! already uses.
+
+use crate::budget::Available;
+use crate::units;
+use antinode_mesh::{mesher, Geometry};
+use antinode_solver::budget;
+use antinode_solver::NedelecOrder;
+use anyhow::{bail, Result};
+
+/// Share of the available memory a run may plan to use before it is refused.
+pub const MEMORY_SHARE: f64 = 0.9;
+
+/// Peak memory of meshing (mesher, mesh, topology and unknown count) per tetrahedron:
+/// `antinode mesh geometries/empty_box.toml --max-size 4` peaked at 636 MB resident for
+/// 2,667,504 tetrahedra (238 B each; development machine, 2026-12-03), rounded up.
+pub const MESHING_BYTES_PER_TET: f64 = 300.0;
+
+/// What the run is expected to need, before meshing.
+#[derive(Clone, Copy, Debug)]
+pub struct PrePlan {
+    pub tets: f64,
+    pub unknowns: f64,
+    pub meshing_bytes: f64,
+    pub solve_bytes: f64,
+}
+
+impl PrePlan {
+    pub fn peak_bytes(&self) -> f64 {
+        self.meshing_bytes.max(self.solve_bytes)
+    }
+}
+
+/// The plan from the mesher's estimate; `None` for an imported mesh (no estimate).
+/// Refuses a run whose plan exceeds the memory available unless `allow_large`.
+pub fn before_meshing(
+    geom: &Geometry,
+    order: NedelecOrder,
+    complex: bool,
+    basis: usize,
+    allow_large: bool,
+) -> Result<Option<PrePlan>> {
+    if geom.mesh.import.is_some() {
+        return Ok(None);
+    }
+    let sizes = mesher::element_sizes(geom)?;
+    let est = mesher::estimate(geom, &sizes)?;
+    let unknowns = budget::unknowns_from_tets(est.tets, order);
+    let solve = budget::estimate(unknowns as usize, complex, order.per_tet(), basis);
+    let plan = PrePlan {
+        tets: est.tets,
+        unknowns,
+        meshing_bytes: MESHING_BYTES_PER_TET * est.tets,
+        solve_bytes: solve.memory_bytes,
+    };
+    if let Some(a) = crate::budget::available() {
+        if plan.peak_bytes() > MEMORY_SHARE * a.bytes && !allow_large {
+            bail!(
+                "this run would need an estimated {} before it starts meshing (about {:.2e} \
+                 tetrahedra by the mesher's estimate, ~{:.2e} unknowns at order {}{}; meshing \
+                 {}, solve {}), but only {} is available ({}); {}",
+                units::bytes(plan.peak_bytes()),
+                plan.tets,
+                plan.unknowns,
+                order.as_int(),
+                if complex { ", complex" } else { "" },
+                units::bytes(plan.meshing_bytes),
+                units::bytes(plan.solve_bytes),
+                units::bytes(a.bytes),
+                a.source,
+                shrink_hint(order)
+            );
+        }
+    }
+    Ok(Some(plan))
+}
+
+/// Refuses a solve whose exact plan (after meshing) exceeds the memory available.
+pub fn check_solve(
+    plan: &budget::Plan,
+    order: NedelecOrder,
+    avail: Option<Available>,
+    basis_note: Option<String>,
+    allow_large: bool,
+) -> Result<()> {
+    let Some(a) = avail else {
+        eprintln!(
+            "note: available memory unknown (/proc/meminfo unreadable); estimated need {}",
+            units::bytes(plan.memory_bytes)
+        );
+        return Ok(());
+    };
+    if plan.memory_bytes > MEMORY_SHARE * a.bytes && !allow_large {
+        bail!(
+            "this solve would need an estimated {} ({} unknowns at order {}{}, ~{:.2e} factor \
+             entries by the solver's fill estimate{}), but only {} is available ({}); {}",
+            units::bytes(plan.memory_bytes),
+            plan.n_dofs,
+            order.as_int(),
+            if plan.complex {
+                ", complex: solved as a real system of twice the size"
+            } else {
+                ""
+            },
+            plan.factor_entries,
+            basis_note.unwrap_or_default(),
+            units::bytes(a.bytes),
+            a.source,
+            shrink_hint(order)
+        );
+    }
+    Ok(())
+}
+
+/// Measured reference for the time estimate: the empty box at order 2 with 126,962 real
+/// unknowns took 7.85 s in all (README, Performance, 2026-12-02).
+const TIME_REF: (f64, f64) = (126_962.0, 7.85);
+/// Growth of the total time with the factor size, and the extra cost per factor entry
+/// of the complex (2n real) problems: fitted by eye to the README's measured runs
+/// (order-2 benchmark rows; fed_box and bowl_on_plate), which it meets within about 2×.
+const TIME_EXPONENT: f64 = 1.25;
+const COMPLEX_TIME_FACTOR: f64 = 1.8;
+
+/// Rough wall time of the solve on the 2-core development machine.
+pub fn time_estimate(plan: &budget::Plan) -> f64 {
+    let reference = budget::estimate(TIME_REF.0 as usize, false, 20, 80).factor_entries;
+    let ratio = (plan.factor_entries / reference).powf(TIME_EXPONENT);
+    TIME_REF.1
+        * ratio
+        * if plan.complex {
+            COMPLEX_TIME_FACTOR
+        } else {
+            1.0
+        }
+}
+
+/// What `--plan` prints after meshing.
+pub fn print_plan_only(plan: &budget::Plan, pre: Option<&PrePlan>, tets: usize, mesh_s: f64) {
+    if let Some(p) = pre {
+        println!(
+            "before meshing: about {:.3e} tetrahedra and {:.3e} unknowns expected (mesher's \
+             estimate), {} for meshing",
+            p.tets,
+            p.unknowns,
+            units::bytes(p.meshing_bytes)
+        );
+    }
+    println!(
+        "mesh: {tets} tetrahedra in {mesh_s:.2} s; solve: {} unknowns, ~{:.2e} factor entries \
+         (solver's fill estimate), peak memory ~{}",
+        plan.n_dofs,
+        plan.factor_entries,
+        units::bytes(plan.memory_bytes)
+    );
+    println!(
+        "time: ~{:.0} s for the solve: a rough estimate scaled from the measured runs in the \
+         README (empty box at order 2, 127k unknowns, 7.85 s on the 2-core development \
+         machine; time ∝ factor entries^{TIME_EXPONENT}, complex problems {COMPLEX_TIME_FACTOR}× \
+         slower), within about 2× there",
+        time_estimate(plan)
+    );
+    println!("plan only (--plan): nothing solved, nothing written");
+}
+
+/// Says what the plan's unknown count includes when the solve will report fewer.
+pub fn port_note(ports: usize) -> &'static str {
+    if ports == 0 {
+        ""
+    } else {
+        " before the ports' TE10 constraint (which ties the aperture unknowns together and \
+         removes some: the solve reports fewer)"
+    }
+}
+
+/// The options that make a run smaller, without the one it already uses.
+pub fn shrink_hint(order: NedelecOrder) -> String {
+    let coarser = "a smaller --per-wavelength or a larger --max-size";
+    match order {
+        NedelecOrder::One => format!("use {coarser}, or pass --allow-large to try anyway"),
+        _ => format!("use --order 1, {coarser}, or pass --allow-large to try anyway"),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn order_one_is_not_told_to_use_order_one() {
+        assert!(!shrink_hint(NedelecOrder::One).contains("--order 1"));
+        assert!(shrink_hint(NedelecOrder::Two).contains("--order 1"));
+    }
+}
