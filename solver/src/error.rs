@@ -14,6 +14,9 @@ pub enum FactorStep {
     /// Numeric LDLᵀ without pivoting (a zero pivot: the shifted matrix is singular or
     /// nearly so).
     NumericLdlt,
+    /// Numeric complex symmetric LDLᵀ with Bunch–Kaufman pivoting (a zero column inside a
+    /// supernode: the shifted matrix is singular or nearly so).
+    NumericComplexLdlt,
 }
 
 impl std::fmt::Display for FactorStep {
@@ -21,6 +24,7 @@ impl std::fmt::Display for FactorStep {
         f.write_str(match self {
             Self::Symbolic => "symbolic analysis",
             Self::NumericLdlt => "numeric LDLᵀ factorisation",
+            Self::NumericComplexLdlt => "numeric complex symmetric LDLᵀ factorisation",
         })
     }
 }

@@ -168,16 +168,15 @@ impl AffineSystem<'_> {
     }
 }
 
-/// A factorised A(k_e): solves A(k_e) X = B in place. Implementations: the real
-/// equivalent 2n form through the sparse symmetric factor ([`ComplexFactor`]), a dense LU
-/// in tests, a native complex-symmetric factor later.
+/// A factorised A(k_e): solves A(k_e) X = B in place. Implementations: the sparse
+/// complex symmetric factor ([`ComplexFactor`]: native LDLᵀ, or the real 2n form as a
+/// reference), a dense LU in tests.
 pub trait ShiftedSolver: Send + Sync {
     fn solve_in_place(&self, rhs: MatMut<'_, c64>);
 }
 
 impl ShiftedSolver for ComplexFactor {
-    fn solve_in_place(&self, mut rhs: MatMut<'_, c64>) {
-        let x = self.solve(rhs.as_ref());
-        rhs.copy_from(&x);
+    fn solve_in_place(&self, rhs: MatMut<'_, c64>) {
+        ComplexFactor::solve_in_place(self, rhs);
     }
 }

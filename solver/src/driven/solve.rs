@@ -18,9 +18,8 @@ use crate::constants::{wavenumber, C0};
 use crate::error::SolverError;
 use crate::fem::port::PortFrame;
 use crate::fem::NedelecOrder;
-use crate::linalg::factor::FactorKind;
 use crate::linalg::sparse::spmv;
-use crate::modes::operator::{ComplexFactor, ComplexParts};
+use crate::modes::operator::{ComplexFactor, ComplexForm, ComplexParts};
 use antinode_mesh::TetMesh;
 use faer::{c64, Mat};
 use std::time::Instant;
@@ -248,11 +247,11 @@ pub fn solve_driven<'m>(
             let (re, im) = system.matrix_at(k);
             let f = ComplexFactor::new(
                 ComplexParts { re, im },
-                FactorKind::Lblt,
+                ComplexForm::Native,
                 ordering.as_ref(),
                 1,
             )?;
-            factor_nnz = factor_nnz.max(f.real_form.factor_nnz());
+            factor_nnz = factor_nnz.max(f.factor_nnz());
             Ok((Box::new(f), t.elapsed().as_secs_f64()))
         };
         let mut options = settings.sweep.clone();
@@ -468,7 +467,7 @@ pub fn solve_direct(
     let (re, im) = system.matrix_at(k);
     let factor = ComplexFactor::new(
         ComplexParts { re, im },
-        FactorKind::Lblt,
+        ComplexForm::Native,
         op.ordering.permutation.as_ref(),
         1,
     )?;

@@ -4,6 +4,8 @@
 //! triangular solves ([`triangular`]), products of tall dense blocks ([`tall_skinny`]),
 //! and the block Krylov–Schur eigen iteration ([`eigen`]).
 
+pub mod bunch_kaufman;
+pub mod complex_ldlt;
 pub mod eigen;
 pub mod factor;
 pub mod ordering;

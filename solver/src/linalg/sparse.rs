@@ -167,3 +167,46 @@ pub fn real_form(ar: &SparseMatrix, ai: &SparseMatrix) -> SparseMatrix {
     }
     SparseMatrix::new((2 * n, 2 * n), indptr, indices, data)
 }
+
+/// Y = (Ar + jAi) X for a complex block X (Ar and Ai on one pattern), parallel over rows.
+pub fn spmm_complex(
+    ar: &SparseMatrix,
+    ai: &SparseMatrix,
+    x: faer::MatRef<'_, faer::c64>,
+    mut y: faer::MatMut<'_, faer::c64>,
+) {
+    use faer::c64;
+    let (n, k) = (x.nrows(), x.ncols());
+    assert!(
+        ar.cols() == n && ar.indptr() == ai.indptr(),
+        "spmm_complex: shapes"
+    );
+    let mut xt = vec![c64::new(0.0, 0.0); n * k];
+    for (i, row) in xt.chunks_exact_mut(k.max(1)).enumerate().take(n) {
+        for (j, v) in row.iter_mut().enumerate() {
+            *v = x[(i, j)];
+        }
+    }
+    let indptr = ar.indptr();
+    let indptr = indptr.raw_storage();
+    let (idx, re, im) = (ar.indices(), ar.data(), ai.data());
+    let mut yt = vec![c64::new(0.0, 0.0); ar.rows() * k];
+    if k > 0 {
+        yt.par_chunks_mut(k)
+            .with_min_len(256)
+            .enumerate()
+            .for_each(|(r, out)| {
+                for p in indptr[r] as usize..indptr[r + 1] as usize {
+                    let (v, c) = (c64::new(re[p], im[p]), idx[p] as usize);
+                    for (o, &xv) in out.iter_mut().zip(&xt[c * k..(c + 1) * k]) {
+                        *o += v * xv;
+                    }
+                }
+            });
+    }
+    for j in 0..k {
+        for (i, row) in yt.chunks_exact(k).enumerate() {
+            y[(i, j)] = row[j];
+        }
+    }
+}

@@ -1,6 +1,8 @@
-//! Tree-parallel block solves with a supernodal LBLᵀ factor.
+//! Tree-parallel block solves with a supernodal LBLᵀ factor, real or complex symmetric.
 //!
-//! The factor of P A Pᵀ = L B Lᵀ (faer's supernodal intranode-pivoted LBLᵀ: L unit lower
+//! The factor of P A Pᵀ = L B Lᵀ (faer's supernodal intranode-pivoted LBLᵀ of a real
+//! symmetric matrix, or [`crate::linalg::complex_ldlt`]'s of a complex symmetric one,
+//! transposes throughout and no conjugation: L unit lower
 //! triangular and stored by supernodes, B block diagonal with 1×1 and 2×2 blocks, P the
 //! fill-reducing ordering composed with the pivoting inside supernodes) is applied as
 //!
@@ -52,11 +54,34 @@ pub struct TreeSchedule {
     n_top_rows: usize,
 }
 
+/// The scalars a factor can hold: f64 (real symmetric) and c64 (complex symmetric; the
+/// solve uses transposes only, never conjugates).
+pub trait FactorScalar:
+    faer::traits::ComplexField
+    + Copy
+    + Send
+    + Sync
+    + PartialEq
+    + From<f64>
+    + std::ops::Add<Output = Self>
+    + std::ops::Sub<Output = Self>
+    + std::ops::Mul<Output = Self>
+    + std::ops::Div<Output = Self>
+    + std::ops::AddAssign
+    + std::ops::SubAssign
+    + std::ops::MulAssign
+{
+}
+
+impl FactorScalar for f64 {}
+impl FactorScalar for faer::c64 {}
+
 /// The numeric factor in the form the solve needs.
-pub struct LbltFactor<'a> {
+pub struct LbltFactor<'a, T> {
     pub symbolic: &'a SymbolicSupernodalCholesky<u32>,
-    pub values: &'a [f64],
-    pub subdiag: &'a [f64],
+    pub values: &'a [T],
+    /// B's entry below the diagonal of each 2×2 block (at its first column), else zero.
+    pub subdiag: &'a [T],
     /// Combined permutation: row i of P A Pᵀ is row `perm[i]` of A.
     pub perm: &'a [u32],
     /// Pivot permutation inverse (maps a pattern row to its stored position).
@@ -191,32 +216,39 @@ impl TreeSchedule {
 }
 
 /// Raw access to the row-major right-hand sides shared by the tasks.
-#[derive(Clone, Copy)]
-struct Rows {
-    ptr: *mut f64,
+struct Rows<T> {
+    ptr: *mut T,
     k: usize,
 }
 
 // SAFETY: tasks touch disjoint rows (their own supernodes' rows for writing; top rows only
 // for reading, in the backward pass after the top part is final), see `solve`.
-unsafe impl Send for Rows {}
-unsafe impl Sync for Rows {}
+unsafe impl<T> Send for Rows<T> {}
+unsafe impl<T> Sync for Rows<T> {}
 
-impl Rows {
+impl<T> Clone for Rows<T> {
+    fn clone(&self) -> Self {
+        *self
+    }
+}
+impl<T> Copy for Rows<T> {}
+
+impl<T> Rows<T> {
     /// Row i. The caller guarantees that no other thread writes it meanwhile.
     #[allow(clippy::mut_from_ref)]
-    unsafe fn row(&self, i: usize) -> &mut [f64] {
+    unsafe fn row(&self, i: usize) -> &mut [T] {
         std::slice::from_raw_parts_mut(self.ptr.add(i * self.k), self.k)
     }
 }
 
 /// Solve A X = B in place (B: n × k, any k), with the factor and a schedule built for it.
-pub fn solve(f: &LbltFactor<'_>, sched: &TreeSchedule, mut rhs: MatMut<'_, f64>) {
+pub fn solve<T: FactorScalar>(f: &LbltFactor<'_, T>, sched: &TreeSchedule, mut rhs: MatMut<'_, T>) {
     let (n, k) = (rhs.nrows(), rhs.ncols());
     if k == 0 || n == 0 {
         return;
     }
-    let mut x = vec![0.0; n * k];
+    let zero = T::from(0.0);
+    let mut x = vec![zero; n * k];
     for (i, &p) in f.perm.iter().enumerate() {
         for j in 0..k {
             x[i * k + j] = rhs[(p as usize, j)];
@@ -227,13 +259,13 @@ pub fn solve(f: &LbltFactor<'_>, sched: &TreeSchedule, mut rhs: MatMut<'_, f64>)
         k,
     };
     // Forward and diagonal: tasks in parallel with private top buffers, then the top.
-    let buffers: Vec<Vec<f64>> = {
+    let buffers: Vec<Vec<T>> = {
         use rayon::prelude::*;
         sched
             .tasks
             .par_iter()
             .map(|task| {
-                let mut buf = vec![0.0; sched.n_top_rows * k];
+                let mut buf = vec![zero; sched.n_top_rows * k];
                 let mut scratch = Scratch::default();
                 for &s in task {
                     // SAFETY: the task owns supernode s and its subtree's rows.
@@ -250,7 +282,7 @@ pub fn solve(f: &LbltFactor<'_>, sched: &TreeSchedule, mut rhs: MatMut<'_, f64>)
             for r in begin[s as usize] as usize..end[s as usize] as usize {
                 let p = sched.top_pos[r] as usize * k;
                 for (xv, bv) in x[r * k..(r + 1) * k].iter_mut().zip(&buf[p..p + k]) {
-                    *xv += bv;
+                    *xv += *bv;
                 }
             }
         }
@@ -283,23 +315,31 @@ pub fn solve(f: &LbltFactor<'_>, sched: &TreeSchedule, mut rhs: MatMut<'_, f64>)
 }
 
 /// Per-task scratch: the supernode's own rows and its pattern rows, column-major.
-#[derive(Default)]
-struct Scratch {
-    top: Vec<f64>,
-    bottom: Vec<f64>,
+struct Scratch<T> {
+    top: Vec<T>,
+    bottom: Vec<T>,
+}
+
+impl<T> Default for Scratch<T> {
+    fn default() -> Self {
+        Self {
+            top: Vec::new(),
+            bottom: Vec::new(),
+        }
+    }
 }
 
 /// The values and pattern of supernode s.
-struct Supernode<'a> {
+struct Supernode<'a, T> {
     start: usize,
     size: usize,
     pattern: &'a [u32],
     /// (size + |pattern|) × size, column-major.
-    val: &'a [f64],
+    val: &'a [T],
 }
 
-impl<'a> Supernode<'a> {
-    fn of(f: &LbltFactor<'a>, s: usize) -> Self {
+impl<'a, T> Supernode<'a, T> {
+    fn of(f: &LbltFactor<'a, T>, s: usize) -> Self {
         let sym = f.symbolic;
         let start = sym.supernode_begin()[s] as usize;
         let ptr = sym.col_ptr_for_val();
@@ -319,10 +359,14 @@ impl<'a> Supernode<'a> {
 ///
 /// # Safety
 /// The caller owns the rows of the supernode.
-unsafe fn own_rows<'b>(sn: &Supernode<'_>, x: Rows, xt: &'b mut Vec<f64>) -> &'b mut Vec<f64> {
+unsafe fn own_rows<'b, T: FactorScalar>(
+    sn: &Supernode<'_, T>,
+    x: Rows<T>,
+    xt: &'b mut Vec<T>,
+) -> &'b mut Vec<T> {
     let (size, k) = (sn.size, x.k);
     xt.clear();
-    xt.resize(size * k, 0.0);
+    xt.resize(size * k, T::from(0.0));
     for c in 0..size {
         for (j, &v) in x.row(sn.start + c).iter().enumerate() {
             xt[j * size + c] = v;
@@ -335,7 +379,7 @@ unsafe fn own_rows<'b>(sn: &Supernode<'_>, x: Rows, xt: &'b mut Vec<f64>) -> &'b
 ///
 /// # Safety
 /// The caller owns the rows of the supernode.
-unsafe fn store_own_rows(sn: &Supernode<'_>, x: Rows, xt: &[f64]) {
+unsafe fn store_own_rows<T: FactorScalar>(sn: &Supernode<'_, T>, x: Rows<T>, xt: &[T]) {
     for c in 0..sn.size {
         for (j, v) in x.row(sn.start + c).iter_mut().enumerate() {
             *v = xt[j * sn.size + c];
@@ -348,13 +392,13 @@ unsafe fn store_own_rows(sn: &Supernode<'_>, x: Rows, xt: &[f64]) {
 ///
 /// # Safety
 /// The caller owns the rows of s and the rows it updates directly.
-unsafe fn forward(
-    f: &LbltFactor<'_>,
+unsafe fn forward<T: FactorScalar>(
+    f: &LbltFactor<'_, T>,
     sched: &TreeSchedule,
     s: usize,
-    x: Rows,
-    buf: Option<&mut Vec<f64>>,
-    scratch: &mut Scratch,
+    x: Rows<T>,
+    buf: Option<&mut Vec<T>>,
+    scratch: &mut Scratch<T>,
 ) {
     let sn = Supernode::of(f, s);
     let (size, nr, plen, k) = (sn.size, sn.rows(), sn.pattern.len(), x.k);
@@ -366,7 +410,7 @@ unsafe fn forward(
     let xt = own_rows(&sn, x, &mut scratch.top);
     // L_top z = y (unit lower), then the pattern rows' updates t = L_bot z.
     scratch.bottom.clear();
-    scratch.bottom.resize(plen * k, 0.0);
+    scratch.bottom.resize(plen * k, T::from(0.0));
     let t = &mut scratch.bottom;
     {
         let l = MatRef::from_column_major_slice(sn.val, nr, size);
@@ -374,7 +418,14 @@ unsafe fn forward(
         let mut z = MatMut::from_column_major_slice_mut(xt.as_mut_slice(), size, k);
         solve_unit_lower_triangular_in_place(l_top, z.as_mut(), Par::Seq);
         let tm = MatMut::from_column_major_slice_mut(t.as_mut_slice(), plen, k);
-        matmul(tm, Accum::Replace, l_bot, z.as_ref(), 1.0, Par::Seq);
+        matmul(
+            tm,
+            Accum::Replace,
+            l_bot,
+            z.as_ref(),
+            T::from(1.0),
+            Par::Seq,
+        );
     }
     for (idx, &row) in sn.pattern.iter().enumerate().take(cut) {
         let dest = f.pivot_inv[row as usize] as usize;
@@ -394,17 +445,20 @@ unsafe fn forward(
     let sub = &f.subdiag[sn.start..sn.start + size];
     let mut i = 0;
     while i < size {
-        if sub[i] == 0.0 {
-            let d = 1.0 / sn.val[i * nr + i];
+        let one = T::from(1.0);
+        if sub[i] == T::from(0.0) {
+            let d = one / sn.val[i * nr + i];
             for j in 0..k {
                 xt[j * size + i] *= d;
             }
             i += 1;
         } else {
-            let d21 = 1.0 / sub[i];
+            // The 2×2 block [[a, b], [b, c]] inverted in the scaled form of LAPACK's
+            // xSYTRS: with d11 = a/b, d22 = c/b, x = (d22·y₁ − y₂)/(b(d11 d22 − 1)), …
+            let d21 = one / sub[i];
             let d11 = d21 * sn.val[i * nr + i];
             let d22 = d21 * sn.val[(i + 1) * nr + i + 1];
-            let denom = 1.0 / (d11 * d22 - 1.0);
+            let denom = one / (d11 * d22 - one);
             for j in 0..k {
                 let xk = xt[j * size + i] * d21;
                 let xk1 = xt[j * size + i + 1] * d21;
@@ -421,11 +475,16 @@ unsafe fn forward(
 ///
 /// # Safety
 /// The caller owns the rows of s; the rows it reads are not written meanwhile.
-unsafe fn backward(f: &LbltFactor<'_>, s: usize, x: Rows, scratch: &mut Scratch) {
+unsafe fn backward<T: FactorScalar>(
+    f: &LbltFactor<'_, T>,
+    s: usize,
+    x: Rows<T>,
+    scratch: &mut Scratch<T>,
+) {
     let sn = Supernode::of(f, s);
     let (size, nr, plen, k) = (sn.size, sn.rows(), sn.pattern.len(), x.k);
     scratch.bottom.clear();
-    scratch.bottom.resize(plen * k, 0.0);
+    scratch.bottom.resize(plen * k, T::from(0.0));
     let t = &mut scratch.bottom;
     for (idx, &row) in sn.pattern.iter().enumerate() {
         for (j, &v) in x.row(f.pivot_inv[row as usize] as usize).iter().enumerate() {
@@ -443,7 +502,7 @@ unsafe fn backward(f: &LbltFactor<'_>, s: usize, x: Rows, scratch: &mut Scratch)
             Accum::Add,
             l_bot.transpose(),
             tm,
-            -1.0,
+            T::from(-1.0),
             Par::Seq,
         );
         solve_unit_upper_triangular_in_place(l_top.transpose(), u.as_mut(), Par::Seq);

@@ -300,8 +300,8 @@ fn eigen_run(
     }
     let build = || {
         let parts = shifted_complex(sys, search.sigma, ports);
-        let factor = ComplexFactor::new(parts, kind, perm, refine)?;
-        let nnz = factor.real_form.factor_nnz();
+        let factor = ComplexFactor::new(parts, settings.complex_form, perm, refine)?;
+        let nnz = factor.factor_nnz();
         let (m_re, m_im) = (&sys.mass_real, sys.mass_imag.as_ref());
         Ok((ComplexShiftInvert { factor, m_re, m_im }, nnz))
     };

@@ -5,8 +5,10 @@
 //!   T = A⁻¹M′ is self-adjoint in the M′-inner product.
 //! * Complex (lossy loads or ports): A = K + jβP − σ(M′ − jM″) = Ar + jAi with
 //!   Ar = K + Re(jβ)P − σM′ and Ai = Im(jβ)P + σM″ on one pattern; A is complex
-//!   symmetric and is factorised through its real symmetric 2n form
-//!   [[Ar, −Ai], [−Ai, −Ar]] ([`crate::linalg::sparse::real_form`]);
+//!   symmetric and is factorised natively as P A Pᵀ = L D Lᵀ
+//!   ([`crate::linalg::complex_ldlt`]); its real symmetric 2n form
+//!   [[Ar, −Ai], [−Ai, −Ar]] ([`crate::linalg::sparse::real_form`]) is kept as the
+//!   reference the native factor is tested against ([`ComplexForm::RealForm`]);
 //!   T = A⁻¹(M′ − jM″) in the Euclidean inner product.
 //!
 //! The pieces are separate so that other solves (a driven response at one frequency:
@@ -16,11 +18,13 @@
 use crate::error::SolverError;
 use crate::fem::assembly::SystemMatrices;
 use crate::fem::port::PortTerms;
+use crate::linalg::complex_ldlt::ComplexSymmetricFactor;
 use crate::linalg::eigen::KrylovOperator;
-use crate::linalg::factor::{FactorKind, SymmetricFactor};
+use crate::linalg::factor::{FactorKind, SymmetricFactor, REFINE_ABOVE};
 use crate::linalg::ordering::doubled;
-use crate::linalg::sparse::{combine, diagonal, real_form, spmm, SparseMatrix};
+use crate::linalg::sparse::{combine, diagonal, real_form, spmm, spmm_complex, SparseMatrix};
 use faer::{c64, Mat, MatMut, MatRef, Par};
+use std::sync::atomic::{AtomicU8, Ordering::Relaxed};
 
 /// A factorised real symmetric matrix, kept with the matrix for residual-checked
 /// refinement.
@@ -114,26 +118,58 @@ pub fn shifted_complex(sys: &SystemMatrices, sigma: f64, ports: &PortTerms) -> C
     }
 }
 
-/// A factorised complex symmetric matrix, solved through its real 2n form.
+/// How a complex symmetric matrix is factorised.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum ComplexForm {
+    /// Native complex symmetric LDLᵀ of the n × n matrix (the solver's path).
+    Native,
+    /// Real symmetric factor of the 2n form (the reference the native path is tested
+    /// against; about twice the memory and several times the time).
+    RealForm(FactorKind),
+}
+
+enum ComplexInner {
+    Native(ComplexSymmetricFactor),
+    RealForm(RefinedFactor),
+}
+
+/// A factorised complex symmetric matrix.
 pub struct ComplexFactor {
     pub parts: ComplexParts,
-    /// The factorised 2n form.
-    pub real_form: RefinedFactor,
+    inner: ComplexInner,
+    /// Refinement steps per solve (0 or 1), native path.
+    refine: usize,
+    /// As [`SymmetricFactor`]'s: 0 not yet known, 1 no refinement needed, 2 needed.
+    refine_state: AtomicU8,
 }
 
 impl ComplexFactor {
-    /// Build the 2n form of `parts` and factorise it; `ordering` (forward, inverse) is a
-    /// fill-reducing ordering of the n × n pattern, applied to both halves.
+    /// Factorise `parts` in the given `form`; `ordering` (forward, inverse) is a
+    /// fill-reducing ordering of the n × n pattern (interleaved for the 2n form).
     pub fn new(
         parts: ComplexParts,
-        kind: FactorKind,
+        form: ComplexForm,
         ordering: Option<&(Vec<u32>, Vec<u32>)>,
         refine: usize,
     ) -> Result<Self, SolverError> {
-        let big = real_form(&parts.re, &parts.im);
-        let ordering2 = ordering.map(|(f, _)| doubled(f));
-        let real_form = RefinedFactor::new(big, kind, ordering2.as_ref(), refine)?;
-        Ok(Self { parts, real_form })
+        let inner = match form {
+            ComplexForm::Native => ComplexInner::Native(ComplexSymmetricFactor::new(
+                &parts.re,
+                &parts.im,
+                ordering.map(|(f, i)| (&f[..], &i[..])),
+            )?),
+            ComplexForm::RealForm(kind) => {
+                let big = real_form(&parts.re, &parts.im);
+                let ordering2 = ordering.map(|(f, _)| doubled(f));
+                ComplexInner::RealForm(RefinedFactor::new(big, kind, ordering2.as_ref(), refine)?)
+            }
+        };
+        Ok(Self {
+            parts,
+            inner,
+            refine,
+            refine_state: AtomicU8::new(0),
+        })
     }
 
     /// Order n of the complex system.
@@ -141,23 +177,80 @@ impl ComplexFactor {
         self.parts.re.rows()
     }
 
-    /// Solve A X = B given in 2n form: `rhs` = [Re B; −Im B] in, [Re X; Im X] out.
-    pub fn solve_real_form(&self, rhs: MatMut<'_, f64>) {
-        self.real_form.solve(rhs);
+    /// Stored entries of the factor (complex ones natively, real ones in the 2n form).
+    pub fn factor_nnz(&self) -> usize {
+        match &self.inner {
+            ComplexInner::Native(f) => f.factor_nnz(),
+            ComplexInner::RealForm(f) => f.factor_nnz(),
+        }
+    }
+
+    /// Bytes of the factor's values (16 per complex entry, 8 per real one).
+    pub fn factor_bytes(&self) -> usize {
+        match &self.inner {
+            ComplexInner::Native(f) => 16 * f.factor_nnz(),
+            ComplexInner::RealForm(f) => 8 * f.factor_nnz(),
+        }
+    }
+
+    /// Solve A X = B in place, refined as [`SymmetricFactor::solve_refined`] is: the
+    /// first solve's residual decides whether later ones need a refinement step.
+    pub fn solve_in_place(&self, mut rhs: MatMut<'_, c64>) {
+        let f = match &self.inner {
+            ComplexInner::Native(f) => f,
+            ComplexInner::RealForm(f) => {
+                let (n, k) = (self.n(), rhs.ncols());
+                let mut big = Mat::<f64>::from_fn(2 * n, k, |i, j| {
+                    if i < n {
+                        rhs[(i, j)].re
+                    } else {
+                        -rhs[(i - n, j)].im
+                    }
+                });
+                f.solve(big.as_mut());
+                for j in 0..k {
+                    for i in 0..n {
+                        rhs[(i, j)] = c64::new(big[(i, j)], big[(n + i, j)]);
+                    }
+                }
+                return;
+            }
+        };
+        if self.refine == 0 || self.refine_state.load(Relaxed) == 1 {
+            f.solve_in_place(rhs);
+            return;
+        }
+        let b = rhs.to_owned();
+        f.solve_in_place(rhs.as_mut());
+        let mut r = Mat::<c64>::zeros(self.n(), rhs.ncols());
+        for _ in 0..self.refine {
+            spmm_complex(&self.parts.re, &self.parts.im, rhs.as_ref(), r.as_mut());
+            r = &b - &r;
+            let worst = (0..b.ncols())
+                .map(|j| {
+                    let bn = b.col(j).norm_l2();
+                    if bn > 0.0 {
+                        r.col(j).norm_l2() / bn
+                    } else {
+                        0.0
+                    }
+                })
+                .fold(0.0, f64::max);
+            if worst <= REFINE_ABOVE {
+                let _ = self.refine_state.compare_exchange(0, 1, Relaxed, Relaxed);
+                break;
+            }
+            self.refine_state.store(2, Relaxed);
+            f.solve_in_place(r.as_mut());
+            rhs += &r;
+        }
     }
 
     /// X = A⁻¹ B for a complex block B.
     pub fn solve(&self, b: MatRef<'_, c64>) -> Mat<c64> {
-        let (n, k) = (self.n(), b.ncols());
-        let mut rhs = Mat::<f64>::from_fn(2 * n, k, |i, j| {
-            if i < n {
-                b[(i, j)].re
-            } else {
-                -b[(i - n, j)].im
-            }
-        });
-        self.solve_real_form(rhs.as_mut());
-        Mat::from_fn(n, k, |i, j| c64::new(rhs[(i, j)], rhs[(n + i, j)]))
+        let mut x = b.to_owned();
+        self.solve_in_place(x.as_mut());
+        x
     }
 }
 
@@ -202,27 +295,26 @@ impl KrylovOperator<c64> for ComplexShiftInvert<'_> {
         y.copy_from(x);
     }
     fn apply(&self, x: MatRef<'_, c64>, _metric_x: MatRef<'_, c64>, mut y: MatMut<'_, c64>) {
+        // y = (M′ − jM″) x, then y ← A⁻¹ y.
         let (n, k) = (self.dim(), x.ncols());
         let xr = Mat::<f64>::from_fn(n, k, |i, j| x[(i, j)].re);
         let xi = Mat::<f64>::from_fn(n, k, |i, j| x[(i, j)].im);
-        // b = (M′ − jM″)(xr + j xi): br = M′xr + M″xi, bi = M′xi − M″xr; rhs [br; −bi].
-        let mut rhs = Mat::<f64>::zeros(2 * n, k);
-        let (mut top, mut bottom) = rhs.as_mut().split_at_row_mut(n);
-        spmm(self.m_re, xr.as_ref(), top.as_mut());
-        spmm(self.m_re, xi.as_ref(), bottom.as_mut());
-        bottom *= faer::Scale(-1.0);
+        let (mut pr, mut pi) = (Mat::<f64>::zeros(n, k), Mat::<f64>::zeros(n, k));
+        spmm(self.m_re, xr.as_ref(), pr.as_mut());
+        spmm(self.m_re, xi.as_ref(), pi.as_mut());
         if let Some(mi) = self.m_im {
+            // (M′ − jM″)(xr + j xi) = (M′xr + M″xi) + j(M′xi − M″xr).
             let mut t = Mat::<f64>::zeros(n, k);
             spmm(mi, xi.as_ref(), t.as_mut());
-            top += &t;
+            pr += &t;
             spmm(mi, xr.as_ref(), t.as_mut());
-            bottom += &t;
+            pi -= &t;
         }
-        self.factor.solve_real_form(rhs.as_mut());
         for j in 0..k {
             for i in 0..n {
-                y[(i, j)] = c64::new(rhs[(i, j)], rhs[(n + i, j)]);
+                y[(i, j)] = c64::new(pr[(i, j)], pi[(i, j)]);
             }
         }
+        self.factor.solve_in_place(y);
     }
 }

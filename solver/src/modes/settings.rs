@@ -7,6 +7,7 @@ use crate::fem::port::PortFrame;
 use crate::fem::NedelecOrder;
 use crate::linalg::eigen::{EigenOptions, EigenProgress};
 use crate::linalg::factor::FactorKind;
+use crate::modes::operator::ComplexForm;
 use antinode_mesh::TetMesh;
 
 /// What to solve for.
@@ -20,7 +21,11 @@ pub struct ModeSettings {
     /// This many modes nearest the target are wanted; when the last of them belongs to a
     /// degenerate group (within [`super::DEGENERATE_REL`]), the whole group is returned.
     pub count: usize,
+    /// Factorisation of the real shifted operator (lossless, no ports).
     pub factor: FactorKind,
+    /// Factorisation of the complex one (lossy loads or ports): native complex symmetric
+    /// LDLᵀ; the real 2n form only as a reference in tests.
+    pub complex_form: ComplexForm,
     /// Iterative refinement steps per solve (0 or 1).
     pub refine: usize,
     pub eigen: EigenOptions,
@@ -45,6 +50,7 @@ impl ModeSettings {
             band_hz: None,
             count: 20,
             factor: FactorKind::Lblt,
+            complex_form: ComplexForm::Native,
             refine: 1,
             eigen: EigenOptions::default(),
             max_modes: 400,
