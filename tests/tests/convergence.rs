@@ -58,6 +58,7 @@ fn rates(order: NedelecOrder, ns: [usize; 3], superconvergent: &[f64]) {
         let (lo, hi) = match order {
             NedelecOrder::One => (1.7, 2.4),
             NedelecOrder::Two => (3.5, 4.6),
+            NedelecOrder::Three => unimplemented!("order-3 rate band not yet set"),
         };
         let hi = if superconvergent.contains(&lam) {
             f64::INFINITY
