@@ -105,6 +105,8 @@ fn fit_errors(order: NedelecOrder, x: [[f64; 3]; 4], u: Field, rng: &mut ChaCha8
 }
 
 /// A random quadratic vector field u_d = Σ_{|γ|≤2} c_dγ x^γ with its exact curl.
+// Index loops mirror the formula (u_d, ∂_k u_d).
+#[allow(clippy::needless_range_loop)]
 fn random_quadratic(rng: &mut ChaCha8Rng) -> impl Fn([f64; 3]) -> ([f64; 3], [f64; 3]) {
     // u_d = a_d + B_d·x + xᵀ Q_d x with Q_d symmetric; ∂_k u_d = B_dk + 2 (Q_d x)_k.
     let a: [f64; 3] = std::array::from_fn(|_| rng.gen_range(-1.0..1.0));
