@@ -5,7 +5,7 @@
 //! (interpolation error grows with the largest angle), so the report lists both extremes
 //! and counts tetrahedra with a small minimum angle.
 
-use crate::tet_mesh::TetMesh;
+use crate::tet_mesh::{cross, dot, sub, TetMesh};
 use rayon::prelude::*;
 
 /// A tetrahedron counts as poor when its smallest dihedral angle is below this (degrees).
@@ -30,19 +30,6 @@ pub struct QualityReport {
     pub poor_threshold: String,
 }
 
-fn sub(a: [f64; 3], b: [f64; 3]) -> [f64; 3] {
-    [a[0] - b[0], a[1] - b[1], a[2] - b[2]]
-}
-fn dot(a: [f64; 3], b: [f64; 3]) -> f64 {
-    a[0] * b[0] + a[1] * b[1] + a[2] * b[2]
-}
-fn cross(a: [f64; 3], b: [f64; 3]) -> [f64; 3] {
-    [
-        a[1] * b[2] - a[2] * b[1],
-        a[2] * b[0] - a[0] * b[2],
-        a[0] * b[1] - a[1] * b[0],
-    ]
-}
 fn norm(a: [f64; 3]) -> f64 {
     dot(a, a).sqrt()
 }

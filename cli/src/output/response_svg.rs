@@ -6,7 +6,7 @@
 //! model evaluated densely; the resonant frequencies of a `modes` run, when one is at
 //! hand, are marked with their index.
 
-use super::svg::{esc, tick_step};
+use super::svg::{esc, frame_with_frequency_axis, tick_step};
 use std::fmt::Write as _;
 
 /// What to draw.
@@ -67,64 +67,7 @@ pub fn svg(p: &ResponsePlot<'_>) -> String {
         r##"<text x="{}" y="44" text-anchor="middle" font-size="12" fill="#444">Driven response: reflection and absorbed power (computed by antinode)</text>"##,
         W / 2.0
     );
-    // Frequency grid.
-    let step = tick_step(hi - lo, 10.0);
-    let digits = (-step.log10().floor()).max(1.0) as usize;
-    let mut t = (lo / step).ceil() * step;
-    while t <= hi + 1e-12 {
-        let xt = x(t);
-        let _ = writeln!(
-            o,
-            r##"<line x1="{xt:.2}" y1="{TOP}" x2="{xt:.2}" y2="{:.2}" stroke="#ddd"/><text x="{xt:.2}" y="{:.2}" text-anchor="middle">{t:.digits$}</text>"##,
-            TOP + ph,
-            TOP + ph + 18.0
-        );
-        t += step;
-    }
-    // dB ticks (left) and fraction ticks (right).
-    let db_step = tick_step(-db_min, 6.0);
-    let mut d = 0.0;
-    while d >= db_min - 1e-9 {
-        let yt = y_db(d);
-        let _ = writeln!(
-            o,
-            r##"<line x1="{LEFT}" y1="{yt:.2}" x2="{:.2}" y2="{yt:.2}" stroke="#eee"/><text x="{:.2}" y="{:.2}" text-anchor="end">{d:.0}</text>"##,
-            LEFT + pw,
-            LEFT - 6.0,
-            yt + 4.0
-        );
-        d -= db_step;
-    }
-    for i in 0..=5 {
-        let v = i as f64 / 5.0;
-        let _ = writeln!(
-            o,
-            r#"<text x="{:.2}" y="{:.2}">{v:.1}</text>"#,
-            LEFT + pw + 6.0,
-            y_frac(v) + 4.0
-        );
-    }
-    let _ = writeln!(
-        o,
-        r##"<rect x="{LEFT}" y="{TOP}" width="{pw}" height="{ph}" fill="none" stroke="#333"/>"##
-    );
-    let _ = writeln!(
-        o,
-        r#"<text x="{:.2}" y="{:.2}" text-anchor="middle">frequency (GHz)</text>"#,
-        LEFT + pw / 2.0,
-        TOP + ph + 38.0
-    );
-    let _ = writeln!(
-        o,
-        r#"<text transform="translate(24 {:.2}) rotate(-90)" text-anchor="middle">|S_pp| (dB)</text>"#,
-        TOP + ph / 2.0
-    );
-    let _ = writeln!(
-        o,
-        r#"<text transform="translate({:.2} {:.2}) rotate(90)" text-anchor="middle">fraction of forward power</text>"#,
-        W - 22.0,
-        TOP + ph / 2.0
-    );
+    axes(&mut o, [lo, hi], db_min, pw, ph);
     // Modes of a `modes` run.
     if let Some((modes, _)) = &p.modes {
         for &(index, f) in modes {
@@ -215,4 +158,61 @@ pub fn svg(p: &ResponsePlot<'_>) -> String {
     }
     o.push_str("</svg>\n");
     o
+}
+
+/// The frequency grid, the dB ticks (left), the fraction ticks (right), the frame and
+/// the axis labels.
+fn axes(o: &mut String, [lo, hi]: [f64; 2], db_min: f64, pw: f64, ph: f64) {
+    let x = |f: f64| LEFT + pw * (f - lo) / (hi - lo);
+    let y_db = |d: f64| TOP + ph * (d.clamp(db_min, 0.0) / db_min);
+    let y_frac = |v: f64| TOP + ph * (1.0 - v.clamp(0.0, 1.0));
+    // Frequency grid.
+    let step = tick_step(hi - lo, 10.0);
+    let digits = (-step.log10().floor()).max(1.0) as usize;
+    let mut t = (lo / step).ceil() * step;
+    while t <= hi + 1e-12 {
+        let xt = x(t);
+        let _ = writeln!(
+            o,
+            r##"<line x1="{xt:.2}" y1="{TOP}" x2="{xt:.2}" y2="{:.2}" stroke="#ddd"/><text x="{xt:.2}" y="{:.2}" text-anchor="middle">{t:.digits$}</text>"##,
+            TOP + ph,
+            TOP + ph + 18.0
+        );
+        t += step;
+    }
+    // dB ticks (left) and fraction ticks (right).
+    let db_step = tick_step(-db_min, 6.0);
+    let mut d = 0.0;
+    while d >= db_min - 1e-9 {
+        let yt = y_db(d);
+        let _ = writeln!(
+            o,
+            r##"<line x1="{LEFT}" y1="{yt:.2}" x2="{:.2}" y2="{yt:.2}" stroke="#eee"/><text x="{:.2}" y="{:.2}" text-anchor="end">{d:.0}</text>"##,
+            LEFT + pw,
+            LEFT - 6.0,
+            yt + 4.0
+        );
+        d -= db_step;
+    }
+    for i in 0..=5 {
+        let v = i as f64 / 5.0;
+        let _ = writeln!(
+            o,
+            r#"<text x="{:.2}" y="{:.2}">{v:.1}</text>"#,
+            LEFT + pw + 6.0,
+            y_frac(v) + 4.0
+        );
+    }
+    frame_with_frequency_axis(o, [LEFT, TOP], pw, ph);
+    let _ = writeln!(
+        o,
+        r#"<text transform="translate(24 {:.2}) rotate(-90)" text-anchor="middle">|S_pp| (dB)</text>"#,
+        TOP + ph / 2.0
+    );
+    let _ = writeln!(
+        o,
+        r#"<text transform="translate({:.2} {:.2}) rotate(90)" text-anchor="middle">fraction of forward power</text>"#,
+        W - 22.0,
+        TOP + ph / 2.0
+    );
 }

@@ -1,7 +1,7 @@
 //! `spectrum.svg`: the modes as Lorentzians of their bandwidth and, per port, each mode's
 //! isolated-resonance coupled power, written by hand as SVG text.
 //!
-//! Curves (δ_i = (f − f_i)/f_i):
+//! Curves (δ_i = (f − f_i)/f_i), computed by `antinode_solver::post::resonance`:
 //!
 //! * mode i: L_i(f) = 1 / (1 + (2 Q_L,i δ_i)²), peak normalised to 1, half-power width
 //!   f_i/Q_L,i; a mode with infinite Q_L is drawn as a vertical line;
@@ -13,8 +13,9 @@
 //!   their curves are not summed; the power that actually enters there is the driven
 //!   response of `antinode drive`, which the picture's notes point to.
 
-use super::svg::{esc, tick_step};
+use super::svg::{esc, frame_with_frequency_axis, tick_step};
 use antinode_solver::post::band::ISM_BAND_HZ;
+use antinode_solver::post::resonance;
 use std::fmt::Write as _;
 
 /// One mode as the spectrum needs it.
@@ -51,11 +52,7 @@ const BOTTOM: f64 = 130.0;
 const PORT_COLOURS: [&str; 4] = ["#d95f02", "#1b9e77", "#7570b3", "#e7298a"];
 
 fn lorentz(m: &SpectrumMode, f: f64) -> f64 {
-    if !m.q_loaded.is_finite() {
-        return 0.0;
-    }
-    let d = 2.0 * m.q_loaded * (f - m.frequency_ghz) / m.frequency_ghz;
-    1.0 / (1.0 + d * d)
+    resonance::energy_response(f, m.frequency_ghz, m.q_loaded)
 }
 
 /// Fraction of port `p`'s forward power mode `m` alone would take in at `f` (see the
@@ -63,12 +60,7 @@ fn lorentz(m: &SpectrumMode, f: f64) -> f64 {
 pub fn single_mode_coupled(m: &SpectrumMode, p: usize, f: f64) -> Option<f64> {
     let kappa = m.coupling.get(p).copied().unwrap_or(0.0);
     let qe = m.q_ports.get(p).copied().unwrap_or(f64::INFINITY);
-    if !(kappa.is_finite() && kappa > 0.0 && qe.is_finite()) {
-        return None;
-    }
-    let q0 = kappa * qe;
-    let x = 2.0 * q0 * (f - m.frequency_ghz) / m.frequency_ghz;
-    Some(4.0 * kappa / ((1.0 + kappa).powi(2) + x * x))
+    resonance::coupled_fraction(f, m.frequency_ghz, kappa, qe)
 }
 
 /// Sample frequencies: a uniform grid plus dense points around each narrow mode so that
@@ -201,16 +193,7 @@ fn frame(o: &mut String, plot: &Plot) {
             y(v) + 4.0
         );
     }
-    let _ = writeln!(
-        o,
-        r##"<rect x="{LEFT}" y="{TOP}" width="{pw}" height="{ph}" fill="none" stroke="#333"/>"##
-    );
-    let _ = writeln!(
-        o,
-        r#"<text x="{:.2}" y="{:.2}" text-anchor="middle">frequency (GHz)</text>"#,
-        LEFT + pw / 2.0,
-        TOP + ph + 38.0
-    );
+    frame_with_frequency_axis(o, [LEFT, TOP], pw, ph);
     let _ = writeln!(
         o,
         r#"<text transform="translate(22 {:.2}) rotate(-90)" text-anchor="middle">fraction (mode curves: peak = 1)</text>"#,

@@ -1,5 +1,7 @@
 //! Helpers shared by the hand-written SVG pictures (`spectrum.svg`, `response.svg`).
 
+use std::fmt::Write as _;
+
 /// Text escaped for SVG/XML.
 pub fn esc(s: &str) -> String {
     s.replace('&', "&amp;")
@@ -22,4 +24,19 @@ pub fn tick_step(span: f64, n: f64) -> f64 {
     } else {
         10.0
     }
+}
+
+/// The plot area's frame (top-left corner `[left, top]`, `pw` × `ph`) and the frequency
+/// axis label under it.
+pub fn frame_with_frequency_axis(o: &mut String, [left, top]: [f64; 2], pw: f64, ph: f64) {
+    let _ = writeln!(
+        o,
+        r##"<rect x="{left}" y="{top}" width="{pw}" height="{ph}" fill="none" stroke="#333"/>"##
+    );
+    let _ = writeln!(
+        o,
+        r#"<text x="{:.2}" y="{:.2}" text-anchor="middle">frequency (GHz)</text>"#,
+        left + pw / 2.0,
+        top + ph + 38.0
+    );
 }

@@ -132,6 +132,22 @@ impl Ctx<'_> {
         }
     }
 
+    /// A positive quantity that must also lie in `[lo, hi]` (see [`super::bounds`]).
+    pub(super) fn bounded(
+        &self,
+        v: &Spanned<f64>,
+        item: &Item,
+        key: &str,
+        [lo, hi]: [f64; 2],
+        unit: &str,
+    ) -> Res<f64> {
+        let x = self.positive(v, item, key, &format!(" ({unit})"))?;
+        match super::bounds::out_of_range(x, lo, hi, unit) {
+            None => Ok(x),
+            Some(allowed) => Err(self.invalid(v.span(), item, key, x, allowed)),
+        }
+    }
+
     pub(super) fn finite(&self, v: &Spanned<f64>, item: &Item, key: &str) -> Res<f64> {
         let x = *v.get_ref();
         if x.is_finite() {

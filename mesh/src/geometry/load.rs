@@ -67,6 +67,15 @@ impl Ctx<'_> {
                         ));
                     }
                 }
+                if let Some(v) = &l.angle_deg {
+                    return Err(self.invalid(
+                        v.span(),
+                        item,
+                        "angle_deg",
+                        v.get_ref(),
+                        "is for shape = \"box\" (a vertical cylinder turned about its axis is unchanged); remove it",
+                    ));
+                }
                 let hint = "a cylinder load needs center = [x, y], radius, bottom and height (mm)";
                 let c = need_v(l.center.as_ref(), "center", hint)?;
                 let center: [f64; 2] = self.array(c, item, "center", "(x, y of the axis in mm)")?;
@@ -133,7 +142,15 @@ impl Ctx<'_> {
                         ),
                     ));
                 }
-                Ok(LoadShape::Box { min, max })
+                let angle_deg = match &l.angle_deg {
+                    Some(a) => self.finite(a, item, "angle_deg")?,
+                    None => 0.0,
+                };
+                Ok(LoadShape::Box {
+                    min,
+                    max,
+                    angle_deg,
+                })
             }
             other => Err(self.invalid(
                 s.span(),

@@ -20,7 +20,8 @@
 //! height = 40.0
 //! material = "water"             # built-in name, or { permittivity = 4.0, loss_tangent = 0.01 },
 //!                                # or { permittivity = 78.0, loss_factor = 10.0 } (eps''), optional permeability
-//! # shape = "box" uses min = [x, y, z] and max = [x, y, z]
+//! # shape = "box" uses min = [x, y, z] and max = [x, y, z], and optionally angle_deg
+//! # (turn counter-clockwise seen from above about the vertical axis through its centre)
 //! [[port]]                       # zero or more feed apertures (used by the solver later)
 //! wall = "+x"                    # box: "-x" "+x" "-y" "+y" "-z" "+z"; cylinder: "top", "bottom", "side" (+ angle_deg)
 //! center = [150.0, 100.0]        # position on that wall, in the wall's two in-plane coordinates (mm)
@@ -55,6 +56,7 @@
 //! overlapping each other (touching is allowed), ports that do not fit on their wall and
 //! duplicate names are rejected with a [`GeometryError`](crate::error::GeometryError) naming file, line, entry and value.
 
+pub mod bounds;
 mod context;
 mod load;
 mod model;

@@ -58,8 +58,77 @@ pub enum LoadShape {
         bottom: f64,
         height: f64,
     },
-    /// Axis-aligned box from `min` to `max`.
-    Box { min: [f64; 3], max: [f64; 3] },
+    /// Box from `min` to `max` before rotation, then turned by `angle_deg`
+    /// (counter-clockwise seen from above) about the vertical axis through the centre of
+    /// its footprint, as a dish on a turning plate is; 0 keeps it axis-aligned.
+    Box {
+        min: [f64; 3],
+        max: [f64; 3],
+        angle_deg: f64,
+    },
+}
+
+/// The footprint of a box load in the x-y plane: centre, half sides and the unit vector
+/// of its first side (the rotated x axis).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct BoxFootprint {
+    pub center: [f64; 2],
+    pub half: [f64; 2],
+    /// (cos θ, sin θ) of the rotation angle θ.
+    pub axis: [f64; 2],
+}
+
+impl BoxFootprint {
+    pub fn new(min: [f64; 3], max: [f64; 3], angle_deg: f64) -> Self {
+        let t = angle_deg.to_radians();
+        // Exact axes at multiples of 90° so an unrotated box keeps exact corners.
+        let axis = if angle_deg == 0.0 {
+            [1.0, 0.0]
+        } else {
+            [t.cos(), t.sin()]
+        };
+        Self {
+            center: [0.5 * (min[0] + max[0]), 0.5 * (min[1] + max[1])],
+            half: [0.5 * (max[0] - min[0]), 0.5 * (max[1] - min[1])],
+            axis,
+        }
+    }
+
+    /// Coordinates of `p` in the box's own frame (origin at the centre).
+    pub fn to_local(&self, p: [f64; 2]) -> [f64; 2] {
+        let d = [p[0] - self.center[0], p[1] - self.center[1]];
+        let [c, s] = self.axis;
+        [c * d[0] + s * d[1], -s * d[0] + c * d[1]]
+    }
+
+    /// The point with local coordinates `q`.
+    pub fn to_global(&self, q: [f64; 2]) -> [f64; 2] {
+        let [c, s] = self.axis;
+        [
+            self.center[0] + c * q[0] - s * q[1],
+            self.center[1] + s * q[0] + c * q[1],
+        ]
+    }
+
+    /// Corners, counter-clockwise.
+    pub fn corners(&self) -> [[f64; 2]; 4] {
+        let [a, b] = self.half;
+        if self.axis == [1.0, 0.0] {
+            // Unrotated: min and max exactly, not centre ± half rounded.
+            let (x0, x1) = (self.center[0] - a, self.center[0] + a);
+            let (y0, y1) = (self.center[1] - b, self.center[1] + b);
+            return [[x0, y0], [x1, y0], [x1, y1], [x0, y1]];
+        }
+        [[-a, -b], [a, -b], [a, b], [-a, b]].map(|q| self.to_global(q))
+    }
+
+    /// Distance from `p` to the footprint (0 inside).
+    pub fn distance(&self, p: [f64; 2]) -> f64 {
+        let q = self.to_local(p);
+        let dx = (q[0].abs() - self.half[0]).max(0.0);
+        let dy = (q[1].abs() - self.half[1]).max(0.0);
+        dx.hypot(dy)
+    }
 }
 
 /// A dielectric load.
@@ -179,7 +248,19 @@ impl LoadShape {
             LoadShape::Cylinder { radius, height, .. } => {
                 std::f64::consts::PI * radius * radius * height
             }
-            LoadShape::Box { min, max } => (0..3).map(|i| max[i] - min[i]).product(),
+            LoadShape::Box { min, max, .. } => (0..3).map(|i| max[i] - min[i]).product(),
+        }
+    }
+
+    /// The footprint of a box load (None for a cylinder).
+    pub fn box_footprint(&self) -> Option<BoxFootprint> {
+        match *self {
+            LoadShape::Box {
+                min,
+                max,
+                angle_deg,
+            } => Some(BoxFootprint::new(min, max, angle_deg)),
+            LoadShape::Cylinder { .. } => None,
         }
     }
 
@@ -187,7 +268,7 @@ impl LoadShape {
     pub fn z_range(&self) -> [f64; 2] {
         match *self {
             LoadShape::Cylinder { bottom, height, .. } => [bottom, bottom + height],
-            LoadShape::Box { min, max } => [min[2], max[2]],
+            LoadShape::Box { min, max, .. } => [min[2], max[2]],
         }
     }
 }

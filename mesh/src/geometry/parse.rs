@@ -1,6 +1,7 @@
 //! Reading a geometry file: TOML text → raw form → validated [`Geometry`], the cavity,
 //! its walls and the ports.
 
+use super::bounds::{self, MAX_LENGTH_MM, MIN_LENGTH_MM};
 use super::context::{fmt_list, number, quoted_list, Ctx, Res};
 use super::raw::*;
 use super::validate::{overlap, tolerance};
@@ -9,6 +10,9 @@ use crate::error::{GeometryError, Item};
 use crate::material::{self, MaterialKind, MaterialValues};
 use std::path::Path;
 use toml::Spanned;
+
+/// The allowed range of a cavity length (mm).
+const LENGTHS: [f64; 2] = [MIN_LENGTH_MM, MAX_LENGTH_MM];
 
 impl Geometry {
     /// Reads and validates a geometry file. Relative paths inside it (mesh import) are
@@ -141,6 +145,18 @@ impl Ctx<'_> {
                         "every side must be a positive length in mm",
                     ));
                 }
+                if let Some(allowed) = s
+                    .iter()
+                    .find_map(|&x| bounds::out_of_range(x, MIN_LENGTH_MM, MAX_LENGTH_MM, "mm"))
+                {
+                    return Err(self.invalid(
+                        size.span(),
+                        &item,
+                        "size",
+                        fmt_list(&s),
+                        format!("every side {allowed}"),
+                    ));
+                }
                 CavityShape::Box { size: s }
             }
             "cylinder" => {
@@ -170,8 +186,8 @@ impl Ctx<'_> {
                     )
                 })?;
                 CavityShape::Cylinder {
-                    radius: self.positive(r, &item, "radius", " (mm)")?,
-                    height: self.positive(h, &item, "height", " (mm)")?,
+                    radius: self.bounded(r, &item, "radius", LENGTHS, "mm")?,
+                    height: self.bounded(h, &item, "height", LENGTHS, "mm")?,
                 }
             }
             other => {

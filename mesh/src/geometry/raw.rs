@@ -41,6 +41,7 @@ pub(super) struct RawLoad {
     pub(super) height: Option<Spanned<f64>>,
     pub(super) min: Option<Spanned<Vec<f64>>>,
     pub(super) max: Option<Spanned<Vec<f64>>>,
+    pub(super) angle_deg: Option<Spanned<f64>>,
     pub(super) material: Spanned<toml::Value>,
     pub(super) temperature: Option<Spanned<f64>>,
 }

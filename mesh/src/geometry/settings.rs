@@ -1,5 +1,6 @@
 //! Reading the `[mesh]` and `[solve]` tables.
 
+use super::bounds::*;
 use super::context::{fmt_list, quoted_list, Ctx, Res};
 use super::raw::*;
 use super::*;
@@ -8,6 +9,9 @@ use std::collections::BTreeMap;
 use std::ops::Range;
 use std::path::{Path, PathBuf};
 use toml::Spanned;
+
+/// The allowed range of a frequency (GHz).
+const FREQUENCIES: [f64; 2] = [MIN_FREQUENCY_GHZ, MAX_FREQUENCY_GHZ];
 
 impl Ctx<'_> {
     pub(super) fn mesh(
@@ -44,11 +48,17 @@ impl Ctx<'_> {
         };
         let per_wavelength = match &m.per_wavelength {
             None => DEFAULT_PER_WAVELENGTH,
-            Some(v) => self.positive(v, &item, "per_wavelength", " (elements per wavelength)")?,
+            Some(v) => self.bounded(
+                v,
+                &item,
+                "per_wavelength",
+                [1.0, MAX_PER_WAVELENGTH],
+                "elements per wavelength",
+            )?,
         };
         let max_size = match &m.max_size {
             None => DEFAULT_MAX_SIZE_MM,
-            Some(v) => self.positive(v, &item, "max_size", " (mm)")?,
+            Some(v) => self.bounded(v, &item, "max_size", [MIN_LENGTH_MM, MAX_LENGTH_MM], "mm")?,
         };
         let import = match &m.import {
             None => {
@@ -180,12 +190,24 @@ impl Ctx<'_> {
         let s = rs.get_ref();
         let target = match &s.target {
             None => DEFAULT_TARGET_GHZ,
-            Some(t) => self.positive(t, &item, "target", " (GHz)")?,
+            Some(t) => self.bounded(t, &item, "target", FREQUENCIES, "GHz")?,
         };
         let band = match &s.band {
             None => None,
             Some(b) => {
                 let [lo, hi]: [f64; 2] = self.array(b, &item, "band", "[lo, hi] in GHz")?;
+                if let Some(allowed) = [lo, hi]
+                    .iter()
+                    .find_map(|&f| out_of_range(f, MIN_FREQUENCY_GHZ, MAX_FREQUENCY_GHZ, "GHz"))
+                {
+                    return Err(self.invalid(
+                        b.span(),
+                        &item,
+                        "band",
+                        fmt_list(&[lo, hi]),
+                        format!("both ends {allowed}"),
+                    ));
+                }
                 if lo <= 0.0 || lo >= hi {
                     return Err(self.invalid(
                         b.span(),
@@ -203,6 +225,17 @@ impl Ctx<'_> {
             None => None,
             Some(c) => {
                 let n = *c.get_ref();
+                if n > MAX_COUNT as i64 {
+                    return Err(self.invalid(
+                        c.span(),
+                        &item,
+                        "count",
+                        n,
+                        format!(
+                            "must be at most {MAX_COUNT} modes (what a cavity solver can mean)"
+                        ),
+                    ));
+                }
                 if n < 1 {
                     return Err(self.invalid(
                         c.span(),

@@ -33,13 +33,24 @@ impl Ctx<'_> {
             ));
         }
         match (*cavity, *shape) {
-            (CavityShape::Box { size }, LoadShape::Box { min, max }) => {
+            (CavityShape::Box { size }, LoadShape::Box { .. }) => {
+                // The footprint is convex: it lies inside the rectangle when its corners do.
+                let corners = shape
+                    .box_footprint()
+                    .map(|f| f.corners())
+                    .unwrap_or_default();
                 for i in 0..2 {
-                    if min[i] < -tol || max[i] > size[i] + tol {
+                    let lo = corners.iter().map(|c| c[i]).fold(f64::INFINITY, f64::min);
+                    let hi = corners
+                        .iter()
+                        .map(|c| c[i])
+                        .fold(f64::NEG_INFINITY, f64::max);
+                    if lo < -tol || hi > size[i] + tol {
                         let ax = ["x", "y"][i];
                         return fail(format!(
-                            "it spans {ax} = {} .. {} mm but the cavity spans {ax} = 0 .. {} mm",
-                            min[i], max[i], size[i]
+                            "its footprint spans {ax} = {lo} .. {hi} mm but the cavity spans \
+                             {ax} = 0 .. {} mm",
+                            size[i]
                         ));
                     }
                 }
@@ -58,19 +69,18 @@ impl Ctx<'_> {
                     }
                 }
             }
-            (CavityShape::Cylinder { radius: rc, .. }, LoadShape::Box { min, max }) => {
+            (CavityShape::Cylinder { radius: rc, .. }, LoadShape::Box { .. }) => {
                 // The footprint is convex, so its corners are its farthest points from the axis.
-                for (x, y) in [
-                    (min[0], min[1]),
-                    (min[0], max[1]),
-                    (max[0], min[1]),
-                    (max[0], max[1]),
-                ] {
+                let corners = shape
+                    .box_footprint()
+                    .map(|f| f.corners())
+                    .unwrap_or_default();
+                for [x, y] in corners {
                     let r = x.hypot(y);
                     if r > rc + tol {
                         return fail(format!(
-                            "its corner (x, y) = ({x}, {y}) mm is {r:.3} mm from the axis but the \
-                             cavity radius is {rc} mm (the cavity axis is at x = y = 0)"
+                            "its corner (x, y) = ({x:.3}, {y:.3}) mm is {r:.3} mm from the axis but \
+                             the cavity radius is {rc} mm (the cavity axis is at x = y = 0)"
                         ));
                     }
                 }
@@ -184,20 +194,33 @@ pub(super) fn overlap(a: &LoadShape, b: &LoadShape, tol: f64) -> Option<String> 
         return None;
     }
     let zdesc = format!("both occupy z = {} .. {} mm", az0.max(bz0), az1.min(bz1));
-    match (*a, *b) {
-        (
-            LoadShape::Box {
-                min: amin,
-                max: amax,
-            },
-            LoadShape::Box {
-                min: bmin,
-                max: bmax,
-            },
-        ) => {
-            let ov = (0..2).all(|i| interval_overlap(amin[i], amax[i], bmin[i], bmax[i]) > tol);
-            ov.then(|| format!("their footprints intersect and {zdesc}"))
+    match (a.box_footprint(), b.box_footprint()) {
+        (Some(fa), Some(fb)) => {
+            let ov = separating_overlap(&fa.corners(), &fb.corners());
+            (ov > tol).then(|| format!("their footprints intersect and {zdesc}"))
         }
+        (Some(f), None) | (None, Some(f)) => {
+            let ((LoadShape::Cylinder { center, radius, .. }, _)
+            | (_, LoadShape::Cylinder { center, radius, .. })) = (*a, *b)
+            else {
+                return None;
+            };
+            // Distance from the circle's centre to the nearest point of the rectangle.
+            let d = f.distance(center);
+            (d < radius - tol).then(|| {
+                format!(
+                    "the circle (radius {radius} mm) reaches {:.3} mm into the box footprint and {zdesc}",
+                    radius - d
+                )
+            })
+        }
+        (None, None) => cylinder_overlap(a, b, tol, &zdesc),
+    }
+}
+
+/// Overlap of two cylinder footprints (`Some(description)` when they share area).
+fn cylinder_overlap(a: &LoadShape, b: &LoadShape, tol: f64, zdesc: &str) -> Option<String> {
+    match (*a, *b) {
         (
             LoadShape::Cylinder {
                 center: ca,
@@ -218,18 +241,30 @@ pub(super) fn overlap(a: &LoadShape, b: &LoadShape, tol: f64) -> Option<String> 
                 )
             })
         }
-        (LoadShape::Cylinder { center, radius, .. }, LoadShape::Box { min, max })
-        | (LoadShape::Box { min, max }, LoadShape::Cylinder { center, radius, .. }) => {
-            // Distance from the circle's centre to the nearest point of the rectangle.
-            let dx = (min[0] - center[0]).max(0.0).max(center[0] - max[0]);
-            let dy = (min[1] - center[1]).max(0.0).max(center[1] - max[1]);
-            let d = dx.hypot(dy);
-            (d < radius - tol).then(|| {
-                format!(
-                    "the circle (radius {radius} mm) reaches {:.3} mm into the box footprint and {zdesc}",
-                    radius - d
-                )
-            })
+        _ => None,
+    }
+}
+
+/// Least overlap of two convex polygons' projections over the normals of all their edges
+/// (the separating-axis theorem for convex sets: disjoint exactly when some edge normal
+/// separates them): positive when the polygons share area, and then the depth of that overlap.
+fn separating_overlap(a: &[[f64; 2]], b: &[[f64; 2]]) -> f64 {
+    let mut least = f64::INFINITY;
+    for poly in [a, b] {
+        for k in 0..poly.len() {
+            let (p, q) = (poly[k], poly[(k + 1) % poly.len()]);
+            let (nx, ny) = (q[1] - p[1], p[0] - q[0]);
+            let l = nx.hypot(ny);
+            let span = |s: &[[f64; 2]]| {
+                s.iter()
+                    .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), c| {
+                        let t = (c[0] * nx + c[1] * ny) / l;
+                        (lo.min(t), hi.max(t))
+                    })
+            };
+            let ((a0, a1), (b0, b1)) = (span(a), span(b));
+            least = least.min(interval_overlap(a0, a1, b0, b1));
         }
     }
+    least
 }

@@ -21,7 +21,7 @@ pub const MAX_TETS: usize = 40_000_000;
 /// Layer thickness relative to the target size h: as the 2-D point spacing
 /// ([`super::planar::SPACING_FACTOR`]), so prisms have square sides and their tets a mean
 /// edge close to h.
-const LAYER_FACTOR: f64 = super::planar::SPACING_FACTOR;
+pub(super) const LAYER_FACTOR: f64 = super::planar::SPACING_FACTOR;
 
 /// mm → m.
 const MM: f64 = 1e-3;
@@ -136,6 +136,12 @@ pub(crate) fn extrude(
     let n2 = planar.points.len();
     let ntri = planar.tris.len();
     let nl = z.len() - 1;
+    if ntri == 0 || nl == 0 {
+        return Err(MesherError::Settings(format!(
+            "the cross-section gave {ntri} triangles and the height {nl} layers; the cavity \
+             is too small or too flat for the element size"
+        )));
+    }
     let n_tets = 3usize.saturating_mul(ntri).saturating_mul(nl);
     if n_tets > MAX_TETS {
         return Err(MesherError::TooLarge {
@@ -238,8 +244,33 @@ pub(crate) fn extrude(
         }
     });
 
-    // Boundary: floor and ceiling copies of the triangles, and the side quads split along
-    // the same diagonals as the prisms; all oriented with outward normals.
+    let (boundary, boundary_tag) = boundary_faces(geom, planar, z);
+
+    let mut regions = vec![RegionInfo {
+        name: "air".to_string(),
+    }];
+    regions.extend(geom.loads.iter().map(|l| RegionInfo {
+        name: l.name.clone(),
+    }));
+    Ok(TetMesh {
+        nodes,
+        tets,
+        tet_region,
+        boundary,
+        boundary_tag,
+        regions,
+    })
+}
+
+/// Boundary: floor and ceiling copies of the triangles, and the side quads split along the
+/// same diagonals as the prisms; all oriented with outward normals, each with its tag.
+fn boundary_faces(
+    geom: &Geometry,
+    planar: &Planar,
+    z: &[f64],
+) -> (Vec<[u32; 3]>, Vec<BoundaryTag>) {
+    let n2 = planar.points.len();
+    let nl = z.len() - 1;
     let mut boundary = Vec::new();
     let mut boundary_tag = Vec::new();
     let top = (nl * n2) as u32;
@@ -273,19 +304,5 @@ pub(crate) fn extrude(
             }
         }
     }
-
-    let mut regions = vec![RegionInfo {
-        name: "air".to_string(),
-    }];
-    regions.extend(geom.loads.iter().map(|l| RegionInfo {
-        name: l.name.clone(),
-    }));
-    Ok(TetMesh {
-        nodes,
-        tets,
-        tet_region,
-        boundary,
-        boundary_tag,
-        regions,
-    })
+    (boundary, boundary_tag)
 }

@@ -23,11 +23,13 @@
 //! split side faces triangulated alike from both columns, wall vertices shared so cylinder
 //! walls stay exact). That needs its own conformity tests and is left for later.
 
+mod estimate;
 mod extrude;
 mod outline;
 mod planar;
 mod sizing;
 
+pub use estimate::{estimate, MeshEstimate, ESTIMATE_MARGIN};
 pub use extrude::MAX_TETS;
 pub use planar::MAX_2D_POINTS;
 pub use sizing::{element_sizes, RegionSize, C0_MM_PER_S, GRADING, GRADING_Z};
@@ -52,6 +54,22 @@ pub enum MesherError {
         "the mesh would exceed {limit} {what}; raise mesh.max_size or lower mesh.per_wavelength"
     )]
     TooLarge { what: &'static str, limit: usize },
+    /// The element-count estimate made before meshing exceeds the mesher's limit.
+    #[error(
+        "the mesh would have about {tets:.2e} tetrahedra ({triangles:.2e} cross-section \
+         triangles x {layers:.3e} layers; element size {h_air_mm:.3} mm in the air, \
+         {h_min_mm:.3} mm smallest), more than the limit of {limit}; check the cavity size \
+         (mm), or raise mesh.max_size (--max-size), lower mesh.per_wavelength \
+         (--per-wavelength) or solve.target (--target)"
+    )]
+    EstimateTooLarge {
+        tets: f64,
+        triangles: f64,
+        layers: f64,
+        h_air_mm: f64,
+        h_min_mm: f64,
+        limit: usize,
+    },
     /// The 2-D triangulation failed (a numerical failure inside the triangulator).
     #[error("triangulating the cavity cross-section failed: {0}")]
     Triangulation(String),
@@ -63,6 +81,8 @@ pub enum MesherError {
 /// and boundary triangles tagged `Wall` or `Port(i)`.
 pub fn mesh_geometry(geom: &Geometry) -> Result<TetMesh, MesherError> {
     let sizes = element_sizes(geom)?;
+    // Refuse before allocating anything that grows with the geometry's size.
+    estimate(geom, &sizes)?;
     let field = sizing::SizeField::new(geom, &sizes)?;
     let outline = outline::Outline::build(geom, &field)?;
     let z = extrude::layer_heights(geom, &field);

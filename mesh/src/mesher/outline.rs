@@ -111,11 +111,14 @@ fn circle_angles(c: P2, r: f64, field: &SizeField, a0: f64) -> Vec<f64> {
 
 impl Outline {
     pub fn build(geom: &Geometry, field: &SizeField) -> Result<Self, MesherError> {
-        let (mut wall_angles, side_points) = side_port_points(geom);
+        let (wall_angles, side_points) = side_port_points(geom);
         let mut footprints = Vec::new();
         for sl in &field.loads {
             footprints.push(match sl.shape {
-                LoadShape::Box { min, max } => rect([min[0], min[1]], [max[0], max[1]]),
+                LoadShape::Box { .. } => sl
+                    .shape
+                    .box_footprint()
+                    .map_or_else(Vec::new, |f| f.corners().to_vec()),
                 LoadShape::Cylinder { center, radius, .. } => {
                     circle_angles(center, radius, field, 0.0)
                         .into_iter()
@@ -133,56 +136,7 @@ impl Outline {
         let cavity = match geom.cavity.shape {
             CavityShape::Box { size } => rect([0.0, 0.0], [size[0], size[1]]),
             CavityShape::Cylinder { radius, .. } => {
-                // Footprint vertices near the wall (a load touching it) are snapped onto
-                // the circle and made wall vertices too, so the two outlines share the
-                // chord there instead of forming slivers between nearly equal chords.
-                for poly in footprints.iter_mut().chain(port_polys.iter_mut()) {
-                    for p in poly.iter_mut() {
-                        let r = p[0].hypot(p[1]);
-                        if r > radius - 0.25 * field.h_xy(*p) {
-                            let a = p[1].atan2(p[0]);
-                            *p = [radius * a.cos(), radius * a.sin()];
-                            wall_angles.push(a);
-                        }
-                    }
-                }
-                let mut angles = circle_angles([0.0, 0.0], radius, field, 0.0);
-                // Port ends and snapped vertices must be wall vertices; drop regular
-                // vertices too close to them so no sliver edge appears.
-                for &a in &wall_angles {
-                    let a = a.rem_euclid(2.0 * PI);
-                    let tol = 0.3 * field.h_xy([radius * a.cos(), radius * a.sin()]) / radius;
-                    angles.retain(|&b| {
-                        let d = (b - a).rem_euclid(2.0 * PI);
-                        d.min(2.0 * PI - d) > tol
-                    });
-                }
-                angles.extend(wall_angles.iter().map(|a| a.rem_euclid(2.0 * PI)));
-                angles.sort_by(f64::total_cmp);
-                angles.dedup_by(|a, b| (*a - *b).abs() < 1e-12);
-                // Removing vertices may leave arcs longer than the local size: fill them
-                // with evenly spaced wall vertices (never split chords, whose midpoints
-                // would lie inside the circle).
-                let mut filled = Vec::with_capacity(angles.len());
-                for k in 0..angles.len() {
-                    let a = angles[k];
-                    let b = if k + 1 < angles.len() {
-                        angles[k + 1]
-                    } else {
-                        angles[0] + 2.0 * PI
-                    };
-                    let mid = 0.5 * (a + b);
-                    let h = field.h_xy([radius * mid.cos(), radius * mid.sin()]);
-                    let h = h.min(field.h_xy([radius * a.cos(), radius * a.sin()]));
-                    let n = ((b - a) * radius / h - 1e-9).ceil().max(1.0) as usize;
-                    filled.extend((0..n).map(|j| a + (b - a) * j as f64 / n as f64));
-                }
-                let angles = filled;
-                let poly = angles
-                    .iter()
-                    .map(|a| [radius * a.cos(), radius * a.sin()])
-                    .collect();
-                poly
+                cylinder_wall(radius, field, &mut footprints, &mut port_polys, wall_angles)
             }
         };
         let clamp = |p: P2| clamp_into_convex(&cavity, p);
@@ -298,6 +252,65 @@ impl Outline {
             edges,
         })
     }
+}
+
+/// The cylinder cavity's wall polygon: vertices on the circle at the local size, with port
+/// ends and load vertices near the wall (snapped onto it here) as wall vertices.
+fn cylinder_wall(
+    radius: f64,
+    field: &SizeField,
+    footprints: &mut [Vec<P2>],
+    port_polys: &mut [Vec<P2>],
+    mut wall_angles: Vec<f64>,
+) -> Vec<P2> {
+    // Footprint vertices near the wall (a load touching it) are snapped onto
+    // the circle and made wall vertices too, so the two outlines share the
+    // chord there instead of forming slivers between nearly equal chords.
+    for poly in footprints.iter_mut().chain(port_polys.iter_mut()) {
+        for p in poly.iter_mut() {
+            let r = p[0].hypot(p[1]);
+            if r > radius - 0.25 * field.h_xy(*p) {
+                let a = p[1].atan2(p[0]);
+                *p = [radius * a.cos(), radius * a.sin()];
+                wall_angles.push(a);
+            }
+        }
+    }
+    let mut angles = circle_angles([0.0, 0.0], radius, field, 0.0);
+    // Port ends and snapped vertices must be wall vertices; drop regular
+    // vertices too close to them so no sliver edge appears.
+    for &a in &wall_angles {
+        let a = a.rem_euclid(2.0 * PI);
+        let tol = 0.3 * field.h_xy([radius * a.cos(), radius * a.sin()]) / radius;
+        angles.retain(|&b| {
+            let d = (b - a).rem_euclid(2.0 * PI);
+            d.min(2.0 * PI - d) > tol
+        });
+    }
+    angles.extend(wall_angles.iter().map(|a| a.rem_euclid(2.0 * PI)));
+    angles.sort_by(f64::total_cmp);
+    angles.dedup_by(|a, b| (*a - *b).abs() < 1e-12);
+    // Removing vertices may leave arcs longer than the local size: fill them
+    // with evenly spaced wall vertices (never split chords, whose midpoints
+    // would lie inside the circle).
+    let mut filled = Vec::with_capacity(angles.len());
+    for k in 0..angles.len() {
+        let a = angles[k];
+        let b = if k + 1 < angles.len() {
+            angles[k + 1]
+        } else {
+            angles[0] + 2.0 * PI
+        };
+        let mid = 0.5 * (a + b);
+        let h = field.h_xy([radius * mid.cos(), radius * mid.sin()]);
+        let h = h.min(field.h_xy([radius * a.cos(), radius * a.sin()]));
+        let n = ((b - a) * radius / h - 1e-9).ceil().max(1.0) as usize;
+        filled.extend((0..n).map(|j| a + (b - a) * j as f64 / n as f64));
+    }
+    filled
+        .iter()
+        .map(|a| [radius * a.cos(), radius * a.sin()])
+        .collect()
 }
 
 /// Signed area (positive for counter-clockwise).

@@ -95,11 +95,7 @@ impl SizedLoad {
                 let d = ((p[0] - center[0]).powi(2) + (p[1] - center[1]).powi(2)).sqrt();
                 (d - radius).max(0.0)
             }
-            LoadShape::Box { min, max } => {
-                let dx = (min[0] - p[0]).max(p[0] - max[0]).max(0.0);
-                let dy = (min[1] - p[1]).max(p[1] - max[1]).max(0.0);
-                (dx * dx + dy * dy).sqrt()
-            }
+            LoadShape::Box { .. } => self.shape.box_footprint().map_or(0.0, |f| f.distance(p)),
         }
     }
 
@@ -107,7 +103,7 @@ impl SizedLoad {
     pub fn z_range(&self) -> [f64; 2] {
         match self.shape {
             LoadShape::Cylinder { bottom, height, .. } => [bottom, bottom + height],
-            LoadShape::Box { min, max } => [min[2], max[2]],
+            LoadShape::Box { min, max, .. } => [min[2], max[2]],
         }
     }
 }
