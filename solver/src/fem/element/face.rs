@@ -65,16 +65,20 @@ impl NedelecTet {
         }
     }
 
-    /// ∫_F (n×φa)·(n×u) dS on local face `face` for a field u given by quadratic
-    /// (6-node Lagrange) interpolation on the face: values at the face's vertices
-    /// (i, j, k of [`FACES`]) then at the midpoints of edges ij, ik, jk.
-    pub fn face_load_quadratic(
+    /// ∫_F (n×φa)·(n×u) dS on local face `face` for a field u given by its Lagrange
+    /// interpolant of degree `degree` on the face: `u[n]` is the value at node
+    /// [`lagrange_nodes`]`(degree)[n]` (barycentric multi-index over the face's vertices
+    /// i, j, k of [`FACES`], divided by the degree). Exact for that interpolant, so a
+    /// field in the element's trace space of order ≤ `degree` is loaded exactly.
+    #[allow(clippy::too_many_arguments)]
+    pub fn face_load_lagrange(
         &self,
         geo: &TetGeometry,
         face: usize,
         area: f64,
         normal: [f64; 3],
-        u: [[f64; 3]; 6],
+        degree: u8,
+        u: &[[f64; 3]],
         out: &mut [f64],
     ) {
         let (i, j, k) = FACES[face];
@@ -87,29 +91,34 @@ impl NedelecTet {
                 area * barycentric::tri_monomial_integral([alpha[i], alpha[j], alpha[k]])
             }
         };
-        // Quadratic Lagrange shape functions as (coefficient, monomial) sums:
-        // N_v = 2λv² − λv, N_vw = 4λvλw.
-        let shape = |node: usize| -> Vec<(f64, Exponents)> {
-            let e = |a: usize, b: usize| barycentric::add(unit(a), unit(b));
-            match node {
-                0 => vec![(2.0, e(i, i)), (-1.0, unit(i))],
-                1 => vec![(2.0, e(j, j)), (-1.0, unit(j))],
-                2 => vec![(2.0, e(k, k)), (-1.0, unit(k))],
-                3 => vec![(4.0, e(i, j))],
-                4 => vec![(4.0, e(i, k))],
-                _ => vec![(4.0, e(j, k))],
-            }
-        };
+        let nodes = lagrange_nodes(degree);
+        assert_eq!(u.len(), nodes.len(), "one value per Lagrange node");
+        // Shape functions as monomial sums in the tetrahedron's coordinates.
+        let shapes: Vec<Vec<(f64, Exponents)>> = nodes
+            .iter()
+            .map(|&nd| {
+                lagrange_shape(nd, degree)
+                    .into_iter()
+                    .map(|(c, e)| {
+                        let mut a = [0u8; 4];
+                        a[i] = e[0];
+                        a[j] = e[1];
+                        a[k] = e[2];
+                        (c, a)
+                    })
+                    .collect()
+            })
+            .collect();
         for (a, f) in self.functions.iter().enumerate() {
             let mut s = 0.0;
             for t in &f.value {
                 let g = tang(geo.grad[t.m]);
-                for (node, un) in u.iter().enumerate() {
+                for (un, shape) in u.iter().zip(&shapes) {
                     let d = dot3(g, tang(*un));
                     if d == 0.0 {
                         continue;
                     }
-                    for (c, mono) in shape(node) {
+                    for &(c, mono) in shape {
                         s += t.c * d * c * face_int(barycentric::add(t.alpha, mono));
                     }
                 }
@@ -133,6 +142,83 @@ impl NedelecTet {
                 }
             }
             out[a] = s * geo.volume;
+        }
+    }
+}
+
+/// Nodes of the degree-`degree` Lagrange interpolant on a triangle as barycentric
+/// multi-indices (a, b, c), a + b + c = degree; node position (a, b, c)/degree.
+pub fn lagrange_nodes(degree: u8) -> Vec<[u8; 3]> {
+    let mut out = Vec::new();
+    for a in (0..=degree).rev() {
+        for b in (0..=degree - a).rev() {
+            out.push([a, b, degree - a - b]);
+        }
+    }
+    out
+}
+
+/// The Lagrange shape function of `node` on the degree-`degree` triangle as a sum of
+/// monomials c·λ^e in the three barycentric coordinates:
+/// N = Π_v Π_{m<node_v} (degree·λv − m)/(m + 1), which is 1 at its node and 0 at the
+/// others (Zienkiewicz & Taylor, The Finite Element Method, vol. 1, triangle family in
+/// area coordinates; from memory).
+fn lagrange_shape(node: [u8; 3], degree: u8) -> Vec<(f64, [u8; 3])> {
+    let d = f64::from(degree);
+    // Univariate factor of each coordinate: coefficients of λ^0..λ^{node_v}.
+    let factor = |n: u8| -> Vec<f64> {
+        let mut p = vec![1.0];
+        for m in 0..n {
+            let (m, den) = (f64::from(m), f64::from(m) + 1.0);
+            let mut q = vec![0.0; p.len() + 1];
+            for (e, &c) in p.iter().enumerate() {
+                q[e + 1] += c * d / den;
+                q[e] -= c * m / den;
+            }
+            p = q;
+        }
+        p
+    };
+    let (f0, f1, f2) = (factor(node[0]), factor(node[1]), factor(node[2]));
+    let mut out = Vec::new();
+    for (a, &c0) in f0.iter().enumerate() {
+        for (b, &c1) in f1.iter().enumerate() {
+            for (c, &c2) in f2.iter().enumerate() {
+                let coef = c0 * c1 * c2;
+                if coef != 0.0 {
+                    out.push((coef, [a as u8, b as u8, c as u8]));
+                }
+            }
+        }
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn lagrange_shapes_are_nodal_and_sum_to_one() {
+        for degree in 1..=4u8 {
+            let nodes = lagrange_nodes(degree);
+            // (d + 1)(d + 2)/2 nodes on the triangle.
+            assert_eq!(nodes.len(), usize::from((degree + 1) * (degree + 2) / 2));
+            for (n, &nd) in nodes.iter().enumerate() {
+                let shape = lagrange_shape(nd, degree);
+                for (m, &pt) in nodes.iter().enumerate() {
+                    let l = pt.map(|v| f64::from(v) / f64::from(degree));
+                    let v: f64 = shape
+                        .iter()
+                        .map(|(c, e)| c * (0..3).map(|q| l[q].powi(e[q].into())).product::<f64>())
+                        .sum();
+                    let want = if n == m { 1.0 } else { 0.0 };
+                    assert!(
+                        (v - want).abs() < 1e-12,
+                        "degree {degree} node {n} at {m}: {v}"
+                    );
+                }
+            }
         }
     }
 }

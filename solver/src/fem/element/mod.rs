@@ -16,6 +16,8 @@ pub mod basis;
 mod face;
 mod terms;
 
+pub use face::lagrange_nodes;
+
 use crate::fem::barycentric;
 use crate::fem::tet_geometry::TetGeometry;
 use basis::BasisFunction;
