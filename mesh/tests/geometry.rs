@@ -544,11 +544,11 @@ fn water_temperature_checks() {
 
 #[test]
 fn mesh_settings_checks() {
-    let text = format!("{BASE}[mesh]\norder = 3\n");
+    let text = format!("{BASE}[mesh]\norder = 4\n");
     rejects(
         &text,
         line_of(&text, "order"),
-        &["[mesh]", "order = 3", "1 or 2"],
+        &["[mesh]", "order = 4", "1, 2 or 3"],
     );
     rejects_at(
         &format!("{BASE}[mesh]\nper_wavelength = 0\n"),

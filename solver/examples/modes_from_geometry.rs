@@ -22,7 +22,7 @@ fn main() -> Result<(), Box<dyn Error>> {
     let mut problem = Problem::from_geometry(&geom)?;
     if let Some(order) = std::env::args().nth(2) {
         let order: u8 = order.parse()?;
-        problem.settings.order = NedelecOrder::from_int(order).ok_or("order must be 1 or 2")?;
+        problem.settings.order = NedelecOrder::from_int(order).ok_or("order must be 1, 2 or 3")?;
     }
     let settings = &problem.settings;
     println!(

@@ -98,7 +98,7 @@ pub enum SolverError {
     #[error("no modes were asked for: give a number of modes (at least 1) or a band")]
     NoModesWanted,
     /// An element order this solver does not implement.
-    #[error("Nédélec element order {order} is not available: use 1 or 2")]
+    #[error("Nédélec element order {order} is not available: use 1, 2 or 3")]
     UnsupportedOrder { order: u8 },
     /// A driven solve needs at least one port to feed the cavity.
     #[error("a driven response needs at least one feed port")]

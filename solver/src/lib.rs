@@ -6,7 +6,7 @@
 //!   ∇ × (μr⁻¹ ∇ × E) − k0² εr E = 0 in Ω,   n × E = 0 on PEC walls.
 //!
 //! The weak form ∫ μr⁻¹ (∇×E)·(∇×v) dV = k0² ∫ εr E·v dV for all v in H0(curl),
-//! discretised with first-kind Nédélec elements (order 1 or 2, [`fem::element`]), gives
+//! discretised with first-kind Nédélec elements (order 1, 2 or 3, [`fem::element`]), gives
 //! the generalised eigenproblem K x = k0² M x ([`fem::assembly`]). Gradients of scalar
 //! functions span the kernel of K; they are kept away by a shift-invert spectral
 //! transformation around σ = k0²(target) ([`linalg::eigen`]), and every reported mode is

@@ -65,7 +65,7 @@ fn run_case(order: u8, n: [usize; 3]) {
     );
     let mesh_s = t0.elapsed().as_secs_f64();
     let mut s = ModeSettings::new(2.45e9);
-    s.order = NedelecOrder::from_int(order).expect("order 1 or 2");
+    s.order = NedelecOrder::from_int(order).expect("order 1, 2 or 3");
     s.count = 20;
     let t1 = Instant::now();
     let set = match solve_modes(&mesh, &[RegionMaterial::VACUUM], &s, &mut |_| {}) {

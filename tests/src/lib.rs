@@ -324,14 +324,15 @@ pub fn ghz(k2: f64) -> f64 {
 /// (Boffi, Acta Numerica 19 (2010), §§ on edge-element eigenvalue convergence, from
 /// memory), with
 /// the constant measured on the cube (0,π)³ (see `tests/cube.rs`, where the observed
-/// worst constants over k² ≤ 6 were C1 = 9.875e-3 (order 1, n = 8) and C2 = 5.025e-4
-/// (order 2, n = 4); rounded up to two digits below) and a safety factor of
+/// worst constants over k² ≤ 6 were C1 = 9.875e-3 (order 1, n = 8), C2 = 5.025e-4
+/// (order 2, n = 4) and C3 = 4.261e-6 (order 3, n = 3); rounded up to two digits below) and a safety factor of
 /// 3 on them for other boxes and mode shapes (common practice, no source). `k` is the
 /// local wavenumber of the mode (√ε k0 in a dielectric), `h` the largest grid spacing.
 pub fn grid_tolerance(order: NedelecOrder, k: f64, h: f64) -> f64 {
     let (c, p) = match order {
         NedelecOrder::One => (GRID_C1, 2),
         NedelecOrder::Two => (GRID_C2, 4),
+        NedelecOrder::Three => (GRID_C3, 6),
     };
     3.0 * c * (k * h).powi(p)
 }
@@ -340,6 +341,8 @@ pub fn grid_tolerance(order: NedelecOrder, k: f64, h: f64) -> f64 {
 pub const GRID_C1: f64 = 9.9e-3;
 /// Observed constant of the order-2 error law on the cube (see [`grid_tolerance`]).
 pub const GRID_C2: f64 = 5.1e-4;
+/// Observed constant of the order-3 error law on the cube (see [`grid_tolerance`]).
+pub const GRID_C3: f64 = 4.3e-6;
 
 /// A root of `f` in `[a, b]` where f(a)·f(b) ≤ 0, by bisection to |b − a| ≤ tol
 /// (bisection halves the bracket each step, so it always converges; Press et al.,

@@ -124,3 +124,26 @@ fn oven_box_ism_band_order2() {
         [15, 15, 10],
     );
 }
+
+/// The small box at order 3 on a coarser grid (h = 20 mm, ≈ 5k unknowns).
+#[test]
+fn small_box_order3() {
+    box_case(
+        [100.0, 80.0, 60.0],
+        [3.0, 5.0],
+        NedelecOrder::Three,
+        [5, 4, 3],
+    );
+}
+
+/// The oven-size box around the ISM band at order 3, h = 30 mm (≈ 60k unknowns).
+#[test]
+#[ignore = "about a minute on 2 cores: cargo test --release --test box_modes -- --ignored"]
+fn oven_box_order3() {
+    box_case(
+        [300.0, 300.0, 200.0],
+        [2.32, 2.58],
+        NedelecOrder::Three,
+        [10, 10, 7],
+    );
+}

@@ -80,9 +80,24 @@ fn dense_case(order: NedelecOrder, n: usize) {
             !on_surface(mid, size)
         })
         .count();
+    let n_int_faces = topo
+        .faces
+        .iter()
+        .filter(|f| {
+            let c = f.map(|v| mesh.nodes[v as usize]);
+            let mid = [0, 1, 2].map(|i| (c[0][i] + c[1][i] + c[2][i]) / 3.0);
+            !on_surface(mid, size)
+        })
+        .count();
+    // The kernel of the curl on the order-p space is the gradient of the Lagrange space of
+    // degree p vanishing on the walls (exact sequence; Monk, Finite Element Methods for
+    // Maxwell's Equations, 2003, §5.5; from memory): one unknown per interior vertex, p − 1
+    // per interior edge, (p − 1)(p − 2)/2 per interior face ((p−1)(p−2)(p−3)/6 per cell,
+    // zero for p ≤ 3).
     let expected = match order {
         NedelecOrder::One => n_int_vertices,
         NedelecOrder::Two => n_int_vertices + n_int_edges,
+        NedelecOrder::Three => n_int_vertices + 2 * n_int_edges + n_int_faces,
     };
     let nonzero: Vec<f64> = lam.iter().copied().filter(|v| v.abs() >= thr).collect();
     println!(
@@ -90,10 +105,11 @@ fn dense_case(order: NedelecOrder, n: usize) {
          (gradient space: {n_int_vertices} interior vertices{}), smallest non-zero {:.6}, \
          gap ratio {:.1e}",
         order.as_int(),
-        if order == NedelecOrder::Two {
-            format!(" + {n_int_edges} interior edges")
-        } else {
-            String::new()
+        match order {
+            NedelecOrder::One => String::new(),
+            NedelecOrder::Two => format!(" + {n_int_edges} interior edges"),
+            NedelecOrder::Three =>
+                format!(" + 2 × {n_int_edges} interior edges + {n_int_faces} interior faces"),
         },
         nonzero[0],
         nonzero[0]
@@ -160,6 +176,11 @@ fn dense_reference_order1() {
 #[test]
 fn dense_reference_order2() {
     dense_case(NedelecOrder::Two, 3);
+}
+
+#[test]
+fn dense_reference_order3() {
+    dense_case(NedelecOrder::Three, 2);
 }
 
 /// A target inside the gradient-kernel region (σ small): the solver must still return

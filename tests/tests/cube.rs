@@ -5,7 +5,7 @@
 //! This case also calibrates the constants of the a-priori tolerance
 //! `grid_tolerance` used by the other box tests: it prints the observed
 //! C_p = relative error / (k h)^{2p} and asserts that it stays below the constants in
-//! `antinode_tests::GRID_C1/C2` (so a regression of the discretisation shows up here).
+//! `antinode_tests::GRID_C1/C2/C3` (so a regression of the discretisation shows up here).
 
 use antinode_solver::NedelecOrder;
 use antinode_solver::RegionMaterial;
@@ -74,4 +74,9 @@ fn cube_order1() {
 #[test]
 fn cube_order2() {
     cube_case(NedelecOrder::Two, 4, GRID_C2);
+}
+
+#[test]
+fn cube_order3() {
+    cube_case(NedelecOrder::Three, 3, GRID_C3);
 }

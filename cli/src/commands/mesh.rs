@@ -32,14 +32,16 @@ pub struct MeshCounts {
     /// Free unknowns (wall and port unknowns eliminated, as the solver does now).
     pub unknowns_order1: usize,
     pub unknowns_order2: usize,
+    pub unknowns_order3: usize,
 }
 
-/// Counts edges, faces and free unknowns of both orders (walls and ports as metal,
+/// Counts edges, faces and free unknowns of the three orders (walls and ports as metal,
 /// matching the solver until port losses are implemented).
 pub fn count(mesh: &TetMesh) -> MeshCounts {
     let topo = Topology::new(mesh);
     let n1 = DofMap::new(&topo, mesh.nodes.len(), NedelecOrder::One, |_| true).n_dofs;
     let n2 = DofMap::new(&topo, mesh.nodes.len(), NedelecOrder::Two, |_| true).n_dofs;
+    let n3 = DofMap::new(&topo, mesh.nodes.len(), NedelecOrder::Three, |_| true).n_dofs;
     MeshCounts {
         nodes: mesh.nodes.len(),
         tets: mesh.tets.len(),
@@ -47,6 +49,7 @@ pub fn count(mesh: &TetMesh) -> MeshCounts {
         faces: topo.faces.len(),
         unknowns_order1: n1,
         unknowns_order2: n2,
+        unknowns_order3: n3,
     }
 }
 
@@ -96,8 +99,9 @@ pub fn run(args: &MeshArgs) -> Result<()> {
         mesh.boundary.len()
     );
     println!(
-        "free unknowns (walls and ports metal): order 1: {} (edges not on the metal), order 2: {}",
-        counts.unknowns_order1, counts.unknowns_order2
+        "free unknowns (walls and ports metal): order 1: {} (edges not on the metal), order 2: {}, \
+         order 3: {}",
+        counts.unknowns_order1, counts.unknowns_order2, counts.unknowns_order3
     );
     println!(
         "element size target: {} per local wavelength at {} GHz, at most {} mm",

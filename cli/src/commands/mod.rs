@@ -41,8 +41,8 @@ pub fn positive(name: &str, v: f64) -> Result<f64> {
 /// Mesh settings from the command line, shared by the solving commands.
 #[derive(clap::Args)]
 pub struct MeshOptions {
-    /// Nédélec element order: 1 (fast, error ~h²) or 2 (accurate, error ~h⁴).
-    #[arg(long, value_name = "1|2")]
+    /// Nédélec element order: 1 (fast, error ~h²), 2 (accurate, error ~h⁴) or 3 (error ~h⁶).
+    #[arg(long, value_name = "1|2|3")]
     pub order: Option<u8>,
     /// Elements per local wavelength (overrides [mesh] per_wavelength).
     #[arg(long, value_name = "X")]

@@ -28,7 +28,7 @@
 //! width = 86.36                  # broad side (mm)
 //! height = 43.18                 # narrow side (mm)
 //! [mesh]
-//! order = 2                      # element order the solver will use (1 or 2)
+//! order = 2                      # element order the solver will use (1, 2 or 3)
 //! per_wavelength = 6.0           # elements per local wavelength at the target frequency
 //! max_size = 20.0                # mm, upper bound on element size anywhere
 //! [solve]

@@ -179,7 +179,7 @@ pub struct Port {
 /// Meshing settings.
 #[derive(Clone, Debug, PartialEq)]
 pub struct MeshSettings {
-    /// Element order the solver will use (1 or 2).
+    /// Element order the solver will use (1, 2 or 3).
     pub order: u8,
     /// Elements per local wavelength at the target frequency.
     pub per_wavelength: f64,

@@ -35,13 +35,14 @@ impl Ctx<'_> {
             Some(o) => match *o.get_ref() {
                 1 => 1,
                 2 => 2,
+                3 => 3,
                 x => {
                     return Err(self.invalid(
                         o.span(),
                         &item,
                         "order",
                         x,
-                        "element order must be 1 or 2",
+                        "element order must be 1, 2 or 3",
                     ))
                 }
             },

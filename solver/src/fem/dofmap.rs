@@ -3,7 +3,9 @@
 //! On a perfect electric conductor n × E = 0. A basis function has a non-zero
 //! tangential trace on a boundary face only if it belongs to that face or to one of its
 //! edges, so PEC is imposed exactly by dropping the unknowns of boundary edges and faces.
-//! Unknowns are numbered edge by edge (kinds of one edge consecutive), then face by face.
+//! Interior functions (order 3) have no trace on any face and are never eliminated.
+//! Unknowns are numbered edge by edge (kinds of one edge consecutive), then face by face,
+//! then tetrahedron by tetrahedron (interior functions).
 
 use crate::fem::element::{Entity, NedelecOrder, NedelecTet};
 use crate::fem::topology::Topology;
@@ -26,6 +28,9 @@ pub struct DofMap {
     pub edge_dof: Vec<u32>,
     /// First unknown of each face (its kinds follow), or [`FIXED`].
     pub face_dof: Vec<u32>,
+    /// First interior unknown of each tetrahedron (its kinds follow), or [`FIXED`] when
+    /// the order has no interior functions.
+    pub interior_dof: Vec<u32>,
     /// Vertices not on the constrained boundary (their hat functions' gradients are in
     /// the discrete kernel of the curl).
     pub vertex_free: Vec<bool>,
@@ -97,6 +102,18 @@ impl DofMap {
                 }
             })
             .collect();
+        let pi = order.per_interior();
+        let interior_dof: Vec<u32> = (0..topo.n_tets())
+            .map(|_| {
+                if pi == 0 {
+                    FIXED
+                } else {
+                    let d = next;
+                    next += pi as u32;
+                    d
+                }
+            })
+            .collect();
         let element = NedelecTet::new(order);
         let n_local = element.len();
         let mut tet_dofs = vec![FIXED; topo.n_tets() * n_local];
@@ -119,6 +136,7 @@ impl DofMap {
                             base + kind as u32
                         }
                     }
+                    Entity::Interior { kind } => interior_dof[t] + kind as u32,
                 };
                 tet_dofs[t * n_local + a] = d;
             }
@@ -130,6 +148,7 @@ impl DofMap {
             tet_dofs,
             edge_dof,
             face_dof,
+            interior_dof,
             vertex_free,
             edge_open,
         }
@@ -141,14 +160,18 @@ impl DofMap {
     }
 
     /// Discrete divergence residual ‖Gᵀ y‖ where y = M x and G maps the scalar
-    /// (P1 or P2) functions vanishing on the PEC boundary to their gradients in the edge
-    /// space: ∇φ_v = Σ_{edges (a,b) ∋ v} ±w_ab (+ when v = b), ∇(λaλb) = its own unknown.
-    /// For a true resonance (λ ≠ 0) Gᵀ M x = 0 exactly; a gradient field gives O(‖y‖).
-    /// Only scalar functions vanishing on the whole boundary are used, so the check also
-    /// holds with port apertures (whose tangential field is constrained).
+    /// functions of degree ≤ p vanishing on the PEC boundary to their gradients in the
+    /// edge space: ∇φ_v = Σ_{edges (a,b) ∋ v} ±w_ab (+ when v = b); the edge bubbles
+    /// λaλb, λaλb(λb − λa) and the face bubble λaλbλc have their gradients as their own
+    /// unknowns (edge kinds 1, 2, face kind 2 of [`crate::fem::element::basis`]), so those
+    /// rows of G are unit vectors. With the vertex hats these span P_p vanishing on the
+    /// boundary. For a true resonance (λ ≠ 0) Gᵀ M x = 0 exactly; a gradient field gives
+    /// O(‖y‖). Only scalar functions vanishing on the whole boundary are used, so the check
+    /// also holds with port apertures (whose tangential field is constrained).
     pub fn gradient_residual(&self, topo: &Topology, y: &[f64]) -> f64 {
         let mut node_sum = vec![0.0; self.vertex_free.len()];
         let mut sum2 = 0.0;
+        let p = self.order.as_int() as usize;
         for (e, &[a, b]) in topo.edges.iter().enumerate() {
             let d = self.edge_dof[e];
             if d == FIXED {
@@ -157,9 +180,20 @@ impl DofMap {
             let w = y[d as usize];
             node_sum[a as usize] -= w;
             node_sum[b as usize] += w;
-            if self.order == NedelecOrder::Two && !self.edge_open[e] {
-                let g = y[d as usize + 1];
-                sum2 += g * g;
+            if !self.edge_open[e] {
+                for kind in 1..p {
+                    let g = y[d as usize + kind];
+                    sum2 += g * g;
+                }
+            }
+        }
+        if self.order == NedelecOrder::Three {
+            for (f, &d) in self.face_dof.iter().enumerate() {
+                // A boundary face's bubble does not vanish on the boundary.
+                if d != FIXED && topo.face_tag[f].is_none() {
+                    let g = y[d as usize + 2];
+                    sum2 += g * g;
+                }
             }
         }
         for (v, s) in node_sum.iter().enumerate() {

@@ -10,7 +10,8 @@
 //! pattern, E_t = c·e, so higher waveguide modes are taken as negligible at the
 //! aperture. The port unknowns of the aperture's edges and faces are replaced by one
 //! amplitude c per port: x_port = c·t, with t the L2 projection of e onto the trace
-//! space (exact integrals of a quadratic interpolant of e). For an outgoing wave
+//! space (exact integrals of the degree-max(p, 2) Lagrange interpolant of e at order p,
+//! so the load is exact for any field of the order-p trace space). For an outgoing wave
 //! n̂ × H = −(β/ωμ0) E_t, so the boundary term of the weak form is
 //!
 //!   ∮_port v·(n̂ × ∇×E) dS = jβ ∮_port v_t·E_t dS  →  jβ N c (with N = ∮|Σ t φ_t|² dS),
@@ -20,7 +21,7 @@
 
 use crate::fem::assembly::SystemMatrices;
 use crate::fem::dofmap::FIXED;
-use crate::fem::element::{NedelecTet, FACES};
+use crate::fem::element::{lagrange_nodes, NedelecTet, FACES};
 use crate::fem::tet_geometry::face_normal_area;
 use crate::fem::topology::Topology;
 use crate::fem::Space;
@@ -106,6 +107,8 @@ pub fn port_constraint(space: &Space<'_>, frames: &[PortFrame]) -> PortConstrain
     let (topo, dofs) = (&space.topology, &space.dofs);
     let element = NedelecTet::new(dofs.order);
     let nl = element.len();
+    let degree = dofs.order.as_int().max(2);
+    let nodes = lagrange_nodes(degree);
     let mut entries = Vec::new();
     let mut norms = Vec::new();
     let mut exact = Vec::new();
@@ -132,26 +135,20 @@ pub fn port_constraint(space: &Space<'_>, frames: &[PortFrame]) -> PortConstrain
             let (i, j, k) = FACES[lf];
             let (normal, area) = face_normal_area(&x, lf);
             element.face_matrices(&geo, lf, area, normal, &mut fm, &mut fc);
-            let mid = |a: [f64; 3], b: [f64; 3]| {
-                [
-                    0.5 * (a[0] + b[0]),
-                    0.5 * (a[1] + b[1]),
-                    0.5 * (a[2] + b[2]),
-                ]
-            };
-            let pts = [
-                x[i],
-                x[j],
-                x[k],
-                mid(x[i], x[j]),
-                mid(x[i], x[k]),
-                mid(x[j], x[k]),
-            ];
-            let u = pts.map(|q| frame.te10(q));
-            element.face_load_quadratic(&geo, lf, area, normal, u, &mut fl);
-            // ∫|e|² with the 3-point edge-midpoint rule (exact for quadratics; e is
-            // smooth and resolved by the mesh, so this is only a quality figure).
-            exact_norm += area / 3.0 * (3..6).map(|q| dot3(u[q], u[q])).sum::<f64>();
+            // e at the nodes of its Lagrange interpolant of degree max(p, 2): exact
+            // integrals of that interpolant make the load exact for any field of the
+            // order-p trace space (polynomials of degree ≤ p on the face).
+            let pts: Vec<[f64; 3]> = nodes
+                .iter()
+                .map(|nd| {
+                    let w = nd.map(|v| f64::from(v) / f64::from(degree));
+                    std::array::from_fn(|c| w[0] * x[i][c] + w[1] * x[j][c] + w[2] * x[k][c])
+                })
+                .collect();
+            let u: Vec<[f64; 3]> = pts.iter().map(|&q| frame.te10(q)).collect();
+            element.face_load_lagrange(&geo, lf, area, normal, degree, &u, &mut fl);
+            // ∫|e|² by the 7-point degree-5 Radon rule (a quality figure only).
+            exact_norm += area * face_quadrature_sq(frame, [x[i], x[j], x[k]]);
             let td = dofs.of_tet(t);
             for a in 0..nl {
                 if td[a] == FIXED {
@@ -195,6 +192,27 @@ pub fn port_constraint(space: &Space<'_>, frames: &[PortFrame]) -> PortConstrain
         norm: norms,
         exact_norm: exact,
     }
+}
+
+/// ∫_F |e|² dS / |F| on triangle `x` by the 7-point degree-5 rule (Radon 1948; as
+/// tabulated by Stroud, Approximate Calculation of Multiple Integrals, 1971, T2:5-1;
+/// from memory).
+fn face_quadrature_sq(frame: &PortFrame, x: [[f64; 3]; 3]) -> f64 {
+    let r = 15f64.sqrt();
+    let (a1, b1) = ((6.0 - r) / 21.0, (9.0 + 2.0 * r) / 21.0);
+    let (a2, b2) = ((6.0 + r) / 21.0, (9.0 - 2.0 * r) / 21.0);
+    let (w1, w2) = ((155.0 - r) / 1200.0, (155.0 + r) / 1200.0);
+    let mut pts = vec![([1.0 / 3.0; 3], 9.0 / 40.0)];
+    for (a, b, w) in [(a1, b1, w1), (a2, b2, w2)] {
+        pts.extend([([b, a, a], w), ([a, b, a], w), ([a, a, b], w)]);
+    }
+    pts.iter()
+        .map(|(l, w)| {
+            let q = std::array::from_fn(|c| l[0] * x[0][c] + l[1] * x[1][c] + l[2] * x[2][c]);
+            let e = frame.te10(q);
+            w * dot3(e, e)
+        })
+        .sum()
 }
 
 /// The change of unknowns x = T y that applies the port constraints: unconstrained

@@ -21,7 +21,7 @@
 use crate::constants::{EPS0, MU0};
 use crate::fem::assembly::RegionMaterial;
 use crate::fem::dofmap::FIXED;
-use crate::fem::element::NedelecTet;
+use crate::fem::element::{NedelecTet, MAX_LOCAL};
 use crate::fem::Space;
 use antinode_mesh::tet_mesh::dot;
 use rayon::prelude::*;
@@ -39,8 +39,8 @@ pub fn at_point(
 ) -> FieldAndCurl {
     let geo = space.tet_geometry(t);
     let n = element.len();
-    let mut phi = [[0.0; 3]; 20];
-    let mut curl = [[0.0; 3]; 20];
+    let mut phi = [[0.0; 3]; MAX_LOCAL];
+    let mut curl = [[0.0; 3]; MAX_LOCAL];
     element.eval(&geo, l, &mut phi[..n]);
     element.eval_curl(&geo, l, &mut curl[..n]);
     let mut e = [0.0; 3];
