@@ -25,16 +25,18 @@
 
 mod estimate;
 mod extrude;
+mod graded;
 mod outline;
 mod planar;
 mod sizing;
 
 pub use estimate::{estimate, MeshEstimate, ESTIMATE_MARGIN};
 pub use extrude::MAX_TETS;
+pub use graded::OVERSHOOT;
 pub use planar::MAX_2D_POINTS;
 pub use sizing::{element_sizes, RegionSize, C0_MM_PER_S, GRADING, GRADING_Z};
 
-use crate::geometry::Geometry;
+use crate::geometry::{Geometry, MeshMethod};
 use crate::tet_mesh::TetMesh;
 
 /// Why the built-in mesher could not mesh a geometry.
@@ -81,14 +83,23 @@ pub enum MesherError {
 /// and boundary triangles tagged `Wall` or `Port(i)`.
 pub fn mesh_geometry(geom: &Geometry) -> Result<TetMesh, MesherError> {
     let sizes = element_sizes(geom)?;
-    // Refuse before allocating anything that grows with the geometry's size.
-    estimate(geom, &sizes)?;
-    let field = sizing::SizeField::new(geom, &sizes)?;
-    let outline = outline::Outline::build(geom, &field)?;
-    let z = extrude::layer_heights(geom, &field);
+    match geom.mesh.method {
+        MeshMethod::Extruded => {
+            // Refuse before allocating anything that grows with the geometry's size.
+            estimate(geom, &sizes)?;
+            extruded(geom, &sizing::SizeField::new(geom, &sizes)?)
+        }
+        MeshMethod::Graded => graded::graded(geom, &sizes),
+    }
+}
+
+/// The extruded mesh of a geometry for the given size fields.
+fn extruded(geom: &Geometry, field: &sizing::SizeField) -> Result<TetMesh, MesherError> {
+    let outline = outline::Outline::build(geom, field)?;
+    let z = extrude::layer_heights(geom, field);
     // A cross-section with N points has about 2N triangles, giving 6N tets per layer:
     // stop placing points as soon as the tet limit is sure to be exceeded.
     let point_limit = (MAX_TETS / (6 * (z.len() - 1).max(1))).min(MAX_2D_POINTS);
-    let planar = planar::Planar::build(&outline, &field, point_limit)?;
-    extrude::extrude(geom, &field, &outline, &planar, &z)
+    let planar = planar::Planar::build(&outline, field, point_limit)?;
+    extrude::extrude(geom, field, &outline, &planar, &z)
 }

@@ -23,7 +23,7 @@
 //! Children keep the parent's orientation: replacing vertex a (or b) of a tetrahedron by
 //! a point of the segment ab leaves the sign of its volume unchanged.
 
-use crate::tet_mesh::{dot, sub, BoundaryTag, TetMesh};
+use crate::tet_mesh::{dot, sub, BoundaryTag, RegionInfo, TetMesh};
 use std::collections::HashMap;
 
 /// The six edges of a tetrahedron as local vertex pairs.
@@ -248,9 +248,14 @@ impl Bisection {
         Some(cuts)
     }
 
+    /// The refined mesh (a copy): see [`Bisection::into_mesh`].
+    pub fn to_mesh(&self, regions: Vec<RegionInfo>) -> TetMesh {
+        self.clone().into_mesh(regions)
+    }
+
     /// The refined mesh: boundary triangles oriented outward from their tetrahedron, in
     /// ascending key order. `regions` are passed through.
-    pub fn to_mesh(&self, regions: Vec<crate::tet_mesh::RegionInfo>) -> TetMesh {
+    pub fn into_mesh(self, regions: Vec<RegionInfo>) -> TetMesh {
         let mut keys: Vec<([u32; 3], BoundaryTag)> =
             self.boundary.iter().map(|(&k, &t)| (k, t)).collect();
         keys.sort_unstable_by_key(|e| e.0);
@@ -277,9 +282,9 @@ impl Bisection {
             boundary_tag.push(tag);
         }
         TetMesh {
-            nodes: self.nodes.clone(),
-            tets: self.tets.clone(),
-            tet_region: self.tet_region.clone(),
+            nodes: self.nodes,
+            tets: self.tets,
+            tet_region: self.tet_region,
             boundary,
             boundary_tag,
             regions,
