@@ -28,13 +28,19 @@
 //!
 //! The coarse start decides the air far from the loads: there nothing is refined, and
 //! the tets are the extruded mesher's at h_air.
+//!
+//! Cylinder sides (cavity wall, cylindrical loads) are followed: new vertices on their
+//! faces go onto the true surface ([`crate::refine::surface`]), and projections that
+//! would leave a flat or inverted tet are undone after refinement.
 
 use super::sizing::{RegionSize, SizeField};
-use super::{estimate, extruded, MesherError, MAX_TETS};
+use super::{estimate, extruded, CurvedMesh, MesherError, MAX_TETS};
 use crate::geometry::Geometry;
-use crate::refine::Bisection;
-use crate::tet_mesh::{dot, sub, TetMesh};
+use crate::refine::surface::{tracked_faces, undo_flat_projections};
+use crate::refine::{curved_surfaces, surface_faces, Bisection};
+use crate::tet_mesh::{dot, sub};
 use rayon::prelude::*;
+use std::collections::HashMap;
 
 /// Refinement rounds before giving up: each round bisects every tet that is too large at
 /// least once, and about three bisections halve all edges of a tet, so 3·log2(h_air/h_min)
@@ -49,7 +55,7 @@ pub const OVERSHOOT: f64 = 1.259_921_049_894_873;
 const PER_M: f64 = 1e3;
 
 /// Meshes `geom` graded in 3-D (see the module doc).
-pub(super) fn graded(geom: &Geometry, sizes: &[RegionSize]) -> Result<TetMesh, MesherError> {
+pub(super) fn graded(geom: &Geometry, sizes: &[RegionSize]) -> Result<CurvedMesh, MesherError> {
     let coarse_sizes: Vec<RegionSize> = sizes
         .iter()
         .map(|s| RegionSize {
@@ -62,23 +68,48 @@ pub(super) fn graded(geom: &Geometry, sizes: &[RegionSize]) -> Result<TetMesh, M
     let field = SizeField::new(geom, sizes)?;
     let start = extruded(geom, &field.coarse())?;
     let regions = start.regions.clone();
+    let surfaces = curved_surfaces(geom);
     let mut b = Bisection::new(&start);
+    for (f, s) in surface_faces(&start, &surfaces) {
+        b.mark_face(f, s);
+    }
     drop(start);
-    let mut place = |_: &Bisection, _: [u32; 2], p: [f64; 3]| p;
+    // New vertex → the surface it was projected onto.
+    let mut projected: HashMap<u32, u32> = HashMap::new();
+    let mut done = false;
     for _ in 0..MAX_ROUNDS {
         let marked = too_large(&b, &field);
         if marked.is_empty() {
-            return Ok(b.into_mesh(regions));
+            done = true;
+            break;
         }
+        let mut place =
+            |b: &Bisection, edge: [u32; 2], mid: [f64; 3]| match b.marked_edges.get(&edge) {
+                Some(&s) => {
+                    projected.insert(b.nodes.len() as u32, s);
+                    surfaces[s as usize].project(mid)
+                }
+                None => mid,
+            };
         b.refine(&marked, MAX_TETS, &mut place)
             .ok_or(MesherError::TooLarge {
                 what: "tetrahedra",
                 limit: MAX_TETS,
             })?;
     }
-    Err(MesherError::Settings(format!(
-        "refinement did not meet the element sizes in {MAX_ROUNDS} rounds"
-    )))
+    if !done {
+        return Err(MesherError::Settings(format!(
+            "refinement did not meet the element sizes in {MAX_ROUNDS} rounds"
+        )));
+    }
+    let undone = undo_flat_projections(&mut b, &surfaces, &mut projected);
+    let surface_faces = tracked_faces(&b);
+    Ok(CurvedMesh {
+        mesh: b.into_mesh(regions),
+        surfaces,
+        surface_faces,
+        projections_undone: undone,
+    })
 }
 
 /// Mean edge (mm) of tetrahedron `t` and the size field sampled over it: the smallest

@@ -59,8 +59,11 @@ pub struct Bisection {
     /// Boundary triangles (ascending keys) and their tags.
     pub boundary: HashMap<[u32; 3], BoundaryTag>,
     /// Further faces the caller tracks (ascending keys) with a caller's mark (e.g. which
-    /// curved surface a face lies on).
+    /// curved surface a face lies on); set with [`Bisection::mark_face`].
     pub marked: HashMap<[u32; 3], u32>,
+    /// The edges of marked faces with their face's mark (edges already cut stay listed;
+    /// they are no longer edges of the mesh and never looked up again).
+    pub marked_edges: HashMap<[u32; 2], u32>,
     /// For every vertex made by bisection (index − `first_new`), its parent edge.
     pub parents: Vec<Parent>,
     /// Number of vertices of the starting mesh.
@@ -96,10 +99,20 @@ impl Bisection {
             tet_region: mesh.tet_region.clone(),
             boundary,
             marked: HashMap::new(),
+            marked_edges: HashMap::new(),
             parents: Vec::new(),
             first_new: mesh.nodes.len(),
             node_tets,
             midpoints: HashMap::new(),
+        }
+    }
+
+    /// Tracks face `f` (any vertex order) and its edges with `mark`.
+    pub fn mark_face(&mut self, f: [u32; 3], mark: u32) {
+        let key = face_key(f);
+        self.marked.insert(key, mark);
+        for (i, j) in [(0, 1), (0, 2), (1, 2)] {
+            self.marked_edges.insert(edge_key(key[i], key[j]), mark);
         }
     }
 
@@ -179,8 +192,8 @@ impl Bisection {
             self.boundary.insert(face_key([m, b, x]), tag);
         }
         if let Some(mark) = self.marked.remove(&key) {
-            self.marked.insert(face_key([a, m, x]), mark);
-            self.marked.insert(face_key([m, b, x]), mark);
+            self.mark_face([a, m, x], mark);
+            self.mark_face([m, b, x], mark);
         }
     }
 

@@ -8,6 +8,11 @@
 //! Longest-edge bisection produces finitely many similarity classes of tetrahedra from
 //! each starting one in practice, which keeps the element quality bounded below.
 
+//! [`surface`] moves new vertices on cylinder sides onto the true surface and describes
+//! those surfaces ([`CurvedSurface`]) for later curved elements.
+
 pub mod bisect;
+pub mod surface;
 
 pub use bisect::{Bisection, Parent};
+pub use surface::{curved_surfaces, surface_faces, CurvedSurface, SurfaceOwner};
