@@ -14,6 +14,7 @@ pub mod make;
 pub mod material;
 pub mod mesher;
 pub mod quality;
+pub mod refine;
 pub mod structured;
 pub mod tet_mesh;
 pub mod vtk;

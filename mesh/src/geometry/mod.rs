@@ -31,6 +31,7 @@
 //! order = 2                      # element order the solver will use (1, 2 or 3)
 //! per_wavelength = 6.0           # elements per local wavelength at the target frequency
 //! max_size = 20.0                # mm, upper bound on element size anywhere
+//! method = "extruded"            # or "graded": fine only in and near the loads (optional)
 //! [solve]
 //! target = 2.45                  # GHz
 //! band = [2.40, 2.50]            # GHz, optional

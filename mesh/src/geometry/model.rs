@@ -187,6 +187,20 @@ pub struct MeshSettings {
     pub max_size: f64,
     /// Optional imported mesh (Gmsh MSH 4.1), resolved relative to the geometry file.
     pub import: Option<MeshImport>,
+    /// How the built-in mesher builds the mesh (`method` in the file).
+    pub method: MeshMethod,
+}
+
+/// How the built-in mesher builds the mesh.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub enum MeshMethod {
+    /// `"extruded"`: a cross-section triangulation extruded in layers, each as fine as
+    /// the finest load anywhere at its height or above or below it.
+    #[default]
+    Extruded,
+    /// `"graded"`: the extruded mesh at the air's size, refined by longest-edge bisection
+    /// only where the graded 3-D size field asks for smaller elements.
+    Graded,
 }
 
 /// An imported mesh and how its physical groups map onto the geometry.

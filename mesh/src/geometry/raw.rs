@@ -68,6 +68,7 @@ pub(super) struct RawMesh {
     pub(super) per_wavelength: Option<Spanned<f64>>,
     pub(super) max_size: Option<Spanned<f64>>,
     pub(super) import: Option<Spanned<String>>,
+    pub(super) method: Option<Spanned<String>>,
     pub(super) unit_mm: Option<Spanned<f64>>,
     pub(super) groups: Option<Spanned<BTreeMap<String, Spanned<String>>>>,
 }

@@ -27,6 +27,7 @@ impl Ctx<'_> {
                 per_wavelength: DEFAULT_PER_WAVELENGTH,
                 max_size: DEFAULT_MAX_SIZE_MM,
                 import: None,
+                method: MeshMethod::default(),
             });
         };
         let m = rm.get_ref();
@@ -60,6 +61,22 @@ impl Ctx<'_> {
         let max_size = match &m.max_size {
             None => DEFAULT_MAX_SIZE_MM,
             Some(v) => self.bounded(v, &item, "max_size", [MIN_LENGTH_MM, MAX_LENGTH_MM], "mm")?,
+        };
+        let method = match &m.method {
+            None => MeshMethod::default(),
+            Some(v) => match v.get_ref().trim() {
+                "extruded" => MeshMethod::Extruded,
+                "graded" => MeshMethod::Graded,
+                x => {
+                    return Err(self.invalid(
+                        v.span(),
+                        &item,
+                        "method",
+                        format!("\"{x}\""),
+                        "\"extruded\" or \"graded\"",
+                    ))
+                }
+            },
         };
         let import = match &m.import {
             None => {
@@ -137,6 +154,7 @@ impl Ctx<'_> {
             per_wavelength,
             max_size,
             import,
+            method,
         })
     }
 

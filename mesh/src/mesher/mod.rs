@@ -25,16 +25,19 @@
 
 mod estimate;
 mod extrude;
+mod graded;
 mod outline;
 mod planar;
 mod sizing;
 
 pub use estimate::{estimate, MeshEstimate, ESTIMATE_MARGIN};
 pub use extrude::MAX_TETS;
+pub use graded::OVERSHOOT;
 pub use planar::MAX_2D_POINTS;
 pub use sizing::{element_sizes, RegionSize, C0_MM_PER_S, GRADING, GRADING_Z};
 
-use crate::geometry::Geometry;
+use crate::geometry::{Geometry, MeshMethod};
+use crate::refine::{curved_surfaces, surface_faces, CurvedSurface};
 use crate::tet_mesh::TetMesh;
 
 /// Why the built-in mesher could not mesh a geometry.
@@ -80,15 +83,51 @@ pub enum MesherError {
 /// Returns tetrahedra in metres, each tagged with its region (0 = air, i + 1 = load i),
 /// and boundary triangles tagged `Wall` or `Port(i)`.
 pub fn mesh_geometry(geom: &Geometry) -> Result<TetMesh, MesherError> {
+    mesh_geometry_curved(geom).map(|c| c.mesh)
+}
+
+/// A mesh with the curved surfaces it follows.
+#[derive(Clone, Debug)]
+pub struct CurvedMesh {
+    pub mesh: TetMesh,
+    /// The geometry's cylinder sides, exactly (metres).
+    pub surfaces: Vec<CurvedSurface>,
+    /// Faces lying on those surfaces (boundary faces and region interfaces) as
+    /// (ascending vertex numbers, index into `surfaces`), in key order.
+    pub surface_faces: Vec<([u32; 3], u32)>,
+    /// Vertices left on their chord because projecting them made a tet flat (graded
+    /// method only; 0 for the extruded one, which places no vertex off the outline).
+    pub projections_undone: usize,
+}
+
+/// [`mesh_geometry`] with the curved surfaces and the faces on them.
+pub fn mesh_geometry_curved(geom: &Geometry) -> Result<CurvedMesh, MesherError> {
     let sizes = element_sizes(geom)?;
-    // Refuse before allocating anything that grows with the geometry's size.
-    estimate(geom, &sizes)?;
-    let field = sizing::SizeField::new(geom, &sizes)?;
-    let outline = outline::Outline::build(geom, &field)?;
-    let z = extrude::layer_heights(geom, &field);
+    match geom.mesh.method {
+        MeshMethod::Extruded => {
+            // Refuse before allocating anything that grows with the geometry's size.
+            estimate(geom, &sizes)?;
+            let mesh = extruded(geom, &sizing::SizeField::new(geom, &sizes)?)?;
+            let surfaces = curved_surfaces(geom);
+            let surface_faces = surface_faces(&mesh, &surfaces);
+            Ok(CurvedMesh {
+                mesh,
+                surfaces,
+                surface_faces,
+                projections_undone: 0,
+            })
+        }
+        MeshMethod::Graded => graded::graded(geom, &sizes),
+    }
+}
+
+/// The extruded mesh of a geometry for the given size fields.
+fn extruded(geom: &Geometry, field: &sizing::SizeField) -> Result<TetMesh, MesherError> {
+    let outline = outline::Outline::build(geom, field)?;
+    let z = extrude::layer_heights(geom, field);
     // A cross-section with N points has about 2N triangles, giving 6N tets per layer:
     // stop placing points as soon as the tet limit is sure to be exceeded.
     let point_limit = (MAX_TETS / (6 * (z.len() - 1).max(1))).min(MAX_2D_POINTS);
-    let planar = planar::Planar::build(&outline, &field, point_limit)?;
-    extrude::extrude(geom, &field, &outline, &planar, &z)
+    let planar = planar::Planar::build(&outline, field, point_limit)?;
+    extrude::extrude(geom, field, &outline, &planar, &z)
 }

@@ -99,6 +99,13 @@ impl SizedLoad {
         }
     }
 
+    /// Distance in 3-D from `p` to the load (0 inside).
+    fn dist(&self, p: [f64; 3]) -> f64 {
+        let [b, t] = self.z_range();
+        let dz = (b - p[2]).max(p[2] - t).max(0.0);
+        self.dist_xy([p[0], p[1]]).hypot(dz)
+    }
+
     /// Vertical extent [bottom, top] (mm).
     pub fn z_range(&self) -> [f64; 2] {
         match self.shape {
@@ -146,6 +153,27 @@ impl SizeField {
             .iter()
             .map(|l| l.h + GRADING * l.dist_xy(p))
             .fold(self.h_air, f64::min)
+    }
+
+    /// The graded 3-D size field, lowest over the ball of radius `rho` around `p`:
+    /// min(h_air, min_i(h_i + GRADING·max(0, d(p, load_i) − rho))). With rho = 0 this is
+    /// the field h(p) itself; h is GRADING-Lipschitz, so this bounds h from below over
+    /// any element within `rho` of `p`, and equals h inside a load.
+    pub fn h_3d_ball(&self, p: [f64; 3], rho: f64) -> f64 {
+        self.loads
+            .iter()
+            .map(|l| l.h + GRADING * (l.dist(p) - rho).max(0.0))
+            .fold(self.h_air, f64::min)
+    }
+
+    /// The same field with every load at the air's size: the coarse starting mesh of the
+    /// graded mesher (outlines and layer planes still carry every interface).
+    pub fn coarse(&self) -> Self {
+        let mut c = self.clone();
+        for l in &mut c.loads {
+            l.h = self.h_air;
+        }
+        c
     }
 
     /// Layer thickness at height z: the same rule along z with the loads' z-ranges and

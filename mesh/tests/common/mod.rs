@@ -3,7 +3,8 @@
 #![allow(dead_code)] // each test file uses its own subset
 
 use antinode_mesh::geometry::{
-    Cavity, CavityShape, Geometry, Load, LoadShape, MeshSettings, Port, SolveSettings, WallMetal,
+    Cavity, CavityShape, Geometry, Load, LoadShape, MeshMethod, MeshSettings, Port, SolveSettings,
+    WallMetal,
 };
 use antinode_mesh::material::{Dielectric, Material};
 use antinode_mesh::tet_mesh::{cross, dot, sub};
@@ -56,6 +57,7 @@ pub fn geometry_with_ports(
             per_wavelength: 5.0,
             max_size: 20.0,
             import: None,
+            method: MeshMethod::Extruded,
         },
         solve: SolveSettings {
             target: 2.45,
