@@ -14,6 +14,7 @@ pub mod material;
 pub mod mesher;
 pub mod quality;
 pub mod structured;
+pub mod sweep;
 pub mod tet_mesh;
 pub mod vtk;
 
