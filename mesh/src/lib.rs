@@ -16,6 +16,7 @@ pub mod mesher;
 pub mod quality;
 pub mod refine;
 pub mod structured;
+pub mod sweep;
 pub mod tet_mesh;
 pub mod vtk;
 

@@ -9,4 +9,6 @@
 pub mod band;
 pub mod field;
 pub mod losses;
+pub mod probes;
 pub mod resonance;
+pub mod tracking;
