@@ -5,11 +5,15 @@
 //! entry count grew like c·n^{4/3} on this project's box and cylinder meshes (measured on
 //! the development machine, order 1 and 2, n = 3k…340k: c ≈ 19–25; the 4/3 power is the
 //! known growth of nested dissection on 3-D meshes, George 1973 / Lipton–Rose–Tarjan 1979,
-//! from memory). The estimate uses c = 30 to stay on the safe side. The complex path
-//! factorises a real system of 2n unknowns.
+//! from memory). The estimate uses c = 30 to stay on the safe side. At order 3 the real
+//! path measured c = 8.5 (n = 41k) and 8.9 (n = 100k) on the empty 300 × 300 × 200 mm box
+//! (order 2 at n = 67k: 8.4, same machine and session), inside the same constant, so one
+//! constant serves every order; `tests/tests/budget.rs` prints estimate against measured
+//! for orders 1–3 on two mesh sizes and fails if the estimate drops below the
+//! measurement. The complex path factorises a real system of 2n unknowns.
 
 use crate::fem::assembly::RegionMaterial;
-use crate::fem::Space;
+use crate::fem::{NedelecOrder, Space};
 use crate::modes::ModeSettings;
 use antinode_mesh::TetMesh;
 
@@ -35,21 +39,33 @@ pub fn plan(mesh: &TetMesh, materials: &[RegionMaterial], settings: &ModeSetting
     estimate(
         space.n_dofs(),
         settings.is_complex(materials),
-        settings.order.per_tet(),
+        settings.order,
         settings.eigen.basis.max(3 * settings.count),
     )
 }
 
-/// Estimate for `n` unknowns; `per_tet` local functions (6 or 20) sets the matrix density;
-/// `basis` is the eigen basis size.
-pub fn estimate(n: usize, complex: bool, per_tet: usize, basis: usize) -> Plan {
+/// Stored entries per matrix row (both triangles) used by the estimate: measured on the
+/// empty box 15.1 (order 1, n = 21k), 40.3 (order 2, n = 67k) and 76.3–78.5 (order 3,
+/// n = 41k–100k); rounded up (order 1 to 16: the earlier 2.5 × local functions, 15, was
+/// below the measurement; order 2 keeps 2.5 × 20 = 50; order 3 measured + 25 % for meshes
+/// with more boundary).
+pub fn row_entries(order: NedelecOrder) -> f64 {
+    match order {
+        NedelecOrder::One => 16.0,
+        NedelecOrder::Two => 50.0,
+        NedelecOrder::Three => 98.0,
+    }
+}
+
+/// Estimate for `n` unknowns of element order `order` (which sets the matrix density,
+/// [`row_entries`]); `basis` is the eigen basis size.
+pub fn estimate(n: usize, complex: bool, order: NedelecOrder, basis: usize) -> Plan {
     let nf = n as f64;
     let n_sys = if complex { 2.0 * nf } else { nf };
     let factor_entries = FILL_CONSTANT * n_sys.powf(4.0 / 3.0);
-    // Matrix rows hold about 2.5 × the local functions (measured ≈ 16 for order 1 and ≈ 45
-    // for order 2); K, M′, M″, the shifted copy and the 2n form each store values and
-    // column indices (12 bytes per entry).
-    let row = 2.5 * per_tet as f64;
+    // K, M′, M″, the shifted copy and the 2n form each store values and column indices
+    // (12 bytes per entry).
+    let row = row_entries(order);
     let matrices = nf * row * 12.0 * if complex { 8.0 } else { 3.0 };
     let scalar = if complex { 16.0 } else { 8.0 };
     let vectors = nf * basis as f64 * scalar * if complex { 3.0 } else { 4.0 };
@@ -67,7 +83,7 @@ pub const DRIVEN_BASIS_COMPLEX: usize = 100;
 
 /// Plan of a driven solve: always complex (the ports), the factor of one expansion point
 /// at a time, and the sweep's basis.
-pub fn plan_driven(mesh: &TetMesh, order: crate::fem::NedelecOrder, n_ports: usize) -> Plan {
+pub fn plan_driven(mesh: &TetMesh, order: NedelecOrder, n_ports: usize) -> Plan {
     let space = Space::with_ports(mesh, order, n_ports);
-    estimate(space.n_dofs(), true, order.per_tet(), DRIVEN_BASIS_COMPLEX)
+    estimate(space.n_dofs(), true, order, DRIVEN_BASIS_COMPLEX)
 }
