@@ -31,10 +31,16 @@ fn main() {
     let set = solve_modes(&mesh, &[RegionMaterial::VACUUM], &s, &mut |_| {}).unwrap();
     let st = &set.stats;
     println!(
-        "n={} factor={:.2} eigen={:.2} total={:.2} apps={} restarts={} modes={} maxres={:.1e}",
+        "n={} nnz/n={:.1} factor/n={:.1} assembly={:.2} ordering={:.2} factor={:.2} eigen={:.2} \
+         checks={:.2} total={:.2} apps={} restarts={} modes={} maxres={:.1e}",
         st.n_dofs,
+        st.matrix_nnz as f64 / st.n_dofs as f64,
+        st.factor_nnz as f64 / st.n_dofs as f64,
+        st.assembly_s,
+        st.ordering_s,
         st.factor_s,
         st.eigen_s,
+        st.checks_s,
         t.elapsed().as_secs_f64(),
         st.applications,
         st.restarts,

@@ -1,13 +1,17 @@
 //! Benchmark: the empty 300 × 300 × 200 mm box, 20 modes nearest 2.45 GHz, structured
-//! meshes from coarse to fine, Nédélec order 1 and 2. Prints unknowns, assembly,
+//! meshes from coarse to fine, Nédélec orders 1, 2 and 3. Prints unknowns, assembly,
 //! factorisation and eigen times, peak memory and the worst relative frequency error
 //! against the analytic TE/TM_mnp list (Pozar, Microwave Engineering, 4th ed., §6.3).
-//! Figures are printed, never asserted.
+//! Figures are printed, never asserted. At the end, per order, the fastest case (total
+//! solve time, mesh excluded) that reached a worst error of 1e-3, 1e-4 and 1e-5.
 //!
 //! Each case runs in a child process so that its peak resident memory (VmHWM) is its
 //! own. Run: `cargo bench -p antinode-tests --bench box_modes` (add `-- quick` for the
 //! small cases only, `-- yardstick` to also run the general-purpose Python path from
-//! `shared/yardstick/` when scikit-fem and scipy are installed). One case alone:
+//! `shared/yardstick/` when scikit-fem and scipy are installed, `-- high-order-yardstick`
+//! to run `shared/yardstick/high_order_box.py` (ngsolve and scipy) at degrees 3 and 4
+//! beside it, and `-- levels` for a shorter series around the three accuracy levels).
+//! One case alone:
 //! `ANTINODE_BENCH_ORDER=2 ANTINODE_BENCH_GRID=18,18,13` on the bench executable.
 
 use antinode_mesh::structured::{grid_mesh, GridLines};
@@ -123,7 +127,7 @@ fn main() {
         let n: Vec<usize> = grid.split(',').filter_map(|x| x.parse().ok()).collect();
         match (order.parse(), n.as_slice()) {
             (Ok(order), &[nx, ny, nz]) => run_case(order, [nx, ny, nz]),
-            _ => println!("ANTINODE_BENCH_ORDER=1|2 and ANTINODE_BENCH_GRID=NX,NY,NZ expected"),
+            _ => println!("ANTINODE_BENCH_ORDER=1|2|3 and ANTINODE_BENCH_GRID=NX,NY,NZ expected"),
         }
         return;
     }
@@ -133,13 +137,33 @@ fn main() {
     // shortest wavelength along an axis and set the worst error at 18 × 18 × 12, so that
     // grid refined in z alone is the coarsest of the series whose worst error is below
     // 1e-4 (the order-2 target), and 19 × 19 × 13 the next.
+    let order3 = [
+        (3, [5, 5, 4]),
+        (3, [6, 6, 4]),
+        (3, [7, 7, 5]),
+        (3, [8, 8, 6]),
+        (3, [9, 9, 6]),
+        (3, [10, 10, 7]),
+        (3, [12, 12, 8]),
+    ];
     let cases: Vec<(u8, [usize; 3])> = if quick {
         vec![
             (1, [12, 12, 8]),
             (1, [24, 24, 16]),
             (2, [6, 6, 4]),
             (2, [12, 12, 8]),
+            (3, [6, 6, 4]),
         ]
+    } else if args.iter().any(|a| a == "levels") {
+        let mut v = vec![
+            (1, [24, 24, 16]),
+            (1, [36, 36, 24]),
+            (2, [9, 9, 6]),
+            (2, [12, 12, 8]),
+            (2, [18, 18, 13]),
+        ];
+        v.extend(order3);
+        v
     } else {
         vec![
             (1, [12, 12, 8]),
@@ -157,12 +181,16 @@ fn main() {
             (2, [24, 24, 16]),
             (2, [27, 27, 18]),
         ]
+        .into_iter()
+        .chain(order3)
+        .collect()
     };
     let exe = std::env::current_exe().expect("own path");
     println!(
         "empty 300x300x200 mm PEC box, 20 modes nearest 2.45 GHz, {} threads",
         rayon_threads()
     );
+    let mut results = Vec::new();
     for (order, n) in cases {
         let grid = format!("{},{},{}", n[0], n[1], n[2]);
         let out = Command::new(&exe)
@@ -170,9 +198,23 @@ fn main() {
             .env("ANTINODE_BENCH_GRID", &grid)
             .output();
         match out {
-            Ok(o) => print!("{}", String::from_utf8_lossy(&o.stdout)),
+            Ok(o) => {
+                let line = String::from_utf8_lossy(&o.stdout).to_string();
+                print!("{line}");
+                if let (Some(t), Some(e), Some(u)) = (
+                    field(&line, "total="),
+                    field(&line, "worst_rel_err="),
+                    field(&line, "unknowns="),
+                ) {
+                    results.push((order, grid, t, e, u));
+                }
+            }
             Err(e) => println!("order={order} grid={grid}: could not run: {e}"),
         }
+    }
+    print_levels(&results);
+    if args.iter().any(|a| a == "high-order-yardstick") {
+        high_order_yardstick();
     }
     if args.iter().any(|a| a == "yardstick") {
         let script = concat!(
@@ -203,4 +245,59 @@ fn main() {
 
 fn rayon_threads() -> usize {
     std::thread::available_parallelism().map_or(1, |n| n.get())
+}
+
+/// The number after `key` in a result line (units such as "s" stripped).
+fn field(line: &str, key: &str) -> Option<f64> {
+    let rest = line[line.find(key)? + key.len()..].trim_start();
+    let num: String = rest
+        .chars()
+        .take_while(|c| c.is_ascii_digit() || matches!(c, '.' | 'e' | '-' | '+'))
+        .collect();
+    num.parse().ok()
+}
+
+/// Per order and accuracy level, the fastest case whose worst error reached the level.
+fn print_levels(results: &[(u8, String, f64, f64, f64)]) {
+    println!("time to reach a worst relative frequency error (solve total, mesh excluded):");
+    println!("order   level   grid        unknowns   time    worst error");
+    for order in 1..=3u8 {
+        for level in [1e-3, 1e-4, 1e-5] {
+            let best = results
+                .iter()
+                .filter(|r| r.0 == order && r.3 <= level)
+                .min_by(|a, b| a.2.total_cmp(&b.2));
+            match best {
+                Some((_, grid, t, e, u)) => {
+                    println!("  {order}    {level:.0e}   {grid:<10} {u:>8.0}  {t:>6.2} s  {e:.2e}")
+                }
+                None => println!("  {order}    {level:.0e}   not reached by the cases run"),
+            }
+        }
+    }
+}
+
+/// `shared/yardstick/high_order_box.py` (a general-purpose high-order FEM library from the
+/// package registries) at degrees 3 and 4, run in this session for a side-by-side table.
+fn high_order_yardstick() {
+    // The shared notes sit beside the main checkout; a worktree elsewhere names their
+    // folder in ANTINODE_YARDSTICK_DIR.
+    let dir = std::env::var("ANTINODE_YARDSTICK_DIR").unwrap_or_else(|_| {
+        concat!(env!("CARGO_MANIFEST_DIR"), "/../../shared/yardstick").to_string()
+    });
+    let script = format!("{dir}/high_order_box.py");
+    for (degree, maxh) in [("3", "40"), ("3", "30"), ("4", "40"), ("4", "30")] {
+        let t = Instant::now();
+        match Command::new("python3")
+            .args([script.as_str(), degree, maxh])
+            .output()
+        {
+            Ok(o) => println!(
+                "yardstick (high-order Python path) degree {degree}, {maxh} mm: {} (wall {:.1} s)",
+                String::from_utf8_lossy(&o.stdout).trim(),
+                t.elapsed().as_secs_f64()
+            ),
+            Err(e) => println!("yardstick degree {degree}: could not run: {e}"),
+        }
+    }
 }

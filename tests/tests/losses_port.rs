@@ -26,19 +26,19 @@ use antinode_mesh::{BoundaryTag, RegionInfo, TetMesh};
 use antinode_solver::constants::{C0, MU0};
 use antinode_solver::fem::port::PortFrame;
 use antinode_solver::post::losses::{mode_q, surface_resistance, ModeIntegrals, PortPower};
-use antinode_solver::RegionMaterial;
 use antinode_solver::{solve_modes, Mode, ModeSettings};
+use antinode_solver::{NedelecOrder, RegionMaterial};
 use std::f64::consts::PI;
 use std::time::Instant;
 
 const SIZE: [f64; 3] = [0.2, 0.15, 0.12];
 // Aperture on the x = a wall: y ∈ [37.5, 112.5] mm (75 mm broad side, TE10 cutoff
-// 2.0 GHz), z ∈ [40, 80] mm; on grid lines of the 10 × 8 × 6 grid.
+// 2.0 GHz), z ∈ [40, 80] mm; on grid lines of the 10 × 8 × 6 grid (and of 5 × 4 × 3).
 const Y: [f64; 2] = [0.0375, 0.1125];
 const Z: [f64; 2] = [0.04, 0.08];
 
-fn fed_mesh() -> TetMesh {
-    let grid = GridLines::uniform([0.0; 3], SIZE, [10, 8, 6]);
+fn fed_mesh(cells: [usize; 3]) -> TetMesh {
+    let grid = GridLines::uniform([0.0; 3], SIZE, cells);
     let mut mesh = grid_mesh(&grid, vec![RegionInfo { name: "air".into() }], |_| Some(0));
     for (f, tag) in mesh.boundary.iter().zip(mesh.boundary_tag.iter_mut()) {
         let c = f.map(|v| mesh.nodes[v as usize]);
@@ -62,8 +62,9 @@ fn frame() -> PortFrame {
     }
 }
 
-fn solve(mesh: &TetMesh, target_hz: f64, count: usize) -> (Vec<Mode>, f64) {
+fn solve(mesh: &TetMesh, order: NedelecOrder, target_hz: f64, count: usize) -> (Vec<Mode>, f64) {
     let mut s = ModeSettings::new(target_hz);
+    s.order = order;
     s.count = count;
     s.ports = vec![frame()];
     let t = Instant::now();
@@ -78,26 +79,34 @@ fn beta(f: f64) -> f64 {
 /// Default run: the most strongly coupled mode.
 #[test]
 fn port_energy_balance() {
-    energy_balance(1);
+    energy_balance(NedelecOrder::Two, [10, 8, 6], 1);
+}
+
+/// The same identity at order 3 (the TE10 load from the cubic interpolant) on the
+/// 5 × 4 × 3 grid (≈ 6k unknowns).
+#[test]
+fn port_energy_balance_order3() {
+    energy_balance(NedelecOrder::Three, [5, 4, 3], 1);
 }
 
 /// The three most strongly coupled modes (slow: two re-solves each).
 #[test]
 #[ignore = "about 10 s"]
 fn port_energy_balance_three_modes() {
-    energy_balance(3);
+    energy_balance(NedelecOrder::Two, [10, 8, 6], 3);
 }
 
-fn energy_balance(n_modes: usize) {
-    let mesh = fed_mesh();
+fn energy_balance(order: NedelecOrder, cells: [usize; 3], n_modes: usize) {
+    let mesh = fed_mesh(cells);
     let f_band = 2.45e9;
     // Six modes nearest the target per coupled mode wanted: by symmetry only some modes
     // couple to the centred aperture.
-    let (modes, secs) = solve(&mesh, f_band, 6 * n_modes);
+    let (modes, secs) = solve(&mesh, order, f_band, 6 * n_modes);
     println!(
         "box {SIZE:?} m, TE10 aperture 75 × 40 mm on x = a (cutoff {:.3} GHz), PEC walls; \
-         target {:.2} GHz: {} modes, {secs:.2} s",
+         order {}, target {:.2} GHz: {} modes, {secs:.2} s",
         C0 / (2.0 * 0.075) / 1e9,
+        order.as_int(),
         f_band / 1e9,
         modes.len()
     );
@@ -143,7 +152,7 @@ fn energy_balance(n_modes: usize) {
         let mut m = m0.clone();
         let mut s_total = 0.0;
         for _ in 0..2 {
-            let (again, secs) = solve(&mesh, target, 6);
+            let (again, secs) = solve(&mesh, order, target, 6);
             s_total += secs;
             let dist = |x: &Mode| {
                 (x.frequency_hz - m.frequency_hz).hypot(x.frequency_imag_hz - m.frequency_imag_hz)

@@ -251,7 +251,7 @@ fn check_plan(
     let usual = budget::estimate(
         plan.n_dofs,
         plan.complex,
-        order.per_tet(),
+        order,
         settings.eigen.basis,
     );
     let basis_note = (plan.memory_bytes > 2.0 * usual.memory_bytes).then(|| {

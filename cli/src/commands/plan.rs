@@ -54,7 +54,7 @@ pub fn before_meshing(
     let sizes = mesher::element_sizes(geom)?;
     let est = mesher::estimate(geom, &sizes)?;
     let unknowns = budget::unknowns_from_tets(est.tets, order);
-    let solve = budget::estimate(unknowns as usize, complex, order.per_tet(), basis);
+    let solve = budget::estimate(unknowns as usize, complex, order, basis);
     let plan = PrePlan {
         tets: est.tets,
         unknowns,
@@ -131,7 +131,7 @@ const COMPLEX_TIME_FACTOR: f64 = 1.8;
 
 /// Rough wall time of the solve on the 2-core development machine.
 pub fn time_estimate(plan: &budget::Plan) -> f64 {
-    let reference = budget::estimate(TIME_REF.0 as usize, false, 20, 80).factor_entries;
+    let reference = budget::estimate(TIME_REF.0 as usize, false, NedelecOrder::Two, 80).factor_entries;
     let ratio = (plan.factor_entries / reference).powf(TIME_EXPONENT);
     TIME_REF.1
         * ratio
