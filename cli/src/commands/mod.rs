@@ -4,6 +4,7 @@ pub mod drive;
 pub mod materials;
 pub mod mesh;
 pub mod modes;
+pub mod sweep;
 
 use antinode_mesh::Geometry;
 use anyhow::{bail, Context, Result};
