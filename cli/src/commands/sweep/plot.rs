@@ -117,7 +117,7 @@ pub fn svg(sweep: &SweepFile, variants: &[Variant], modes: &[ModeLine], at: &[At
             ],
         });
     }
-    let height = 40.0 + panels.len() as f64 * (PANEL_H + GAP) + 20.0;
+    let height = 50.0 + panels.len() as f64 * (PANEL_H + GAP) + 20.0;
     let mut o = String::new();
     let _ = writeln!(
         o,
@@ -130,12 +130,12 @@ pub fn svg(sweep: &SweepFile, variants: &[Variant], modes: &[ModeLine], at: &[At
         .unwrap_or_else(|| sweep.path.display().to_string());
     let _ = writeln!(
         o,
-        r#"<text x="{LEFT}" y="22" font-size="14">{}</text>"#,
+        r#"<text x="{LEFT}" y="20" font-size="14">{}</text>"#,
         esc(&title)
     );
     let x_range = range(xs.iter().copied(), false);
     for (i, p) in panels.iter().enumerate() {
-        let top = 40.0 + i as f64 * (PANEL_H + GAP);
+        let top = 50.0 + i as f64 * (PANEL_H + GAP);
         draw_panel(&mut o, p, top, x_range, &x_label);
     }
     o.push_str("</svg>\n");
@@ -257,5 +257,7 @@ fn draw_panel(o: &mut String, p: &Panel<'_>, top: f64, xr: [f64; 2], x_label: &s
 
 fn fmt_tick(v: f64, step: f64) -> String {
     let digits = (-step.abs().log10().floor()).max(0.0) as usize;
+    // A value within half a step of zero is printed as 0, never as −0.
+    let v = if v.abs() < 0.5 * step.abs() { 0.0 } else { v };
     format!("{v:.digits$}")
 }
