@@ -13,6 +13,7 @@
 mod collect;
 mod plot;
 mod schedule;
+mod slurm;
 mod tables;
 mod variant;
 
@@ -41,6 +42,16 @@ pub struct SweepArgs {
     /// Only build the tables and the plot from the variant folders already in DIR.
     #[arg(long)]
     pub collect: bool,
+    /// Write Slurm batch scripts (a job array of `--only K` tasks and a `--collect` job)
+    /// into DIR/slurm instead of running.
+    #[arg(long, conflicts_with_all = ["only", "collect", "resume"])]
+    pub slurm: bool,
+    /// Slurm partition for the batch scripts.
+    #[arg(long, value_name = "P", requires = "slurm")]
+    pub partition: Option<String>,
+    /// Slurm time limit per task (Slurm's format, e.g. 0:30:00).
+    #[arg(long, value_name = "T", requires = "slurm")]
+    pub time: Option<String>,
 }
 
 /// The folder of variant `k` (0-based) in `dir`.
@@ -67,6 +78,9 @@ pub fn run(args: &SweepArgs) -> Result<()> {
     }
     let variants: Vec<Variant> = sweep.variants(|k| geometry_file(&dir, k));
     report_invalid(&sweep, &variants);
+    if args.slurm {
+        return slurm::write(&sweep, &dir, &variants, args);
+    }
     if !args.collect {
         schedule::run_all(&sweep, &dir, &variants, args)?;
     }
