@@ -73,6 +73,10 @@ enum Command {
     /// List the built-in materials with permittivity and loss at a frequency (metals:
     /// conductivity and surface resistance), with the source of each value.
     Materials(commands::materials::MaterialsArgs),
+    /// Run `modes` and/or `drive` on every variant of a sweep file (parameters by dotted
+    /// key into a base geometry), track the modes between neighbouring variants by their
+    /// fields, and write DIR/sweep.csv, sweep.json, sweep.svg and DIR/variants/vNNN/.
+    Sweep(commands::sweep::SweepArgs),
 }
 
 fn main() -> ExitCode {
@@ -82,6 +86,7 @@ fn main() -> ExitCode {
         Command::Modes(a) => commands::modes::run(&a),
         Command::Drive(a) => commands::drive::run(&a),
         Command::Materials(a) => commands::materials::run(&a),
+        Command::Sweep(a) => commands::sweep::run(&a),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -5,6 +5,7 @@ pub mod materials;
 pub mod mesh;
 pub mod modes;
 pub mod plan;
+pub mod sweep;
 
 use antinode_mesh::Geometry;
 use anyhow::{bail, Result};

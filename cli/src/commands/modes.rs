@@ -64,6 +64,15 @@ pub struct ModesArgs {
 }
 
 pub fn run(args: &ModesArgs) -> Result<()> {
+    run_with(args, &mut |_, _| Ok(()))
+}
+
+/// [`run`], with `inspect` called on the solved modes before any file is written (the
+/// sweep samples their fields there).
+pub fn run_with(
+    args: &ModesArgs,
+    inspect: &mut dyn FnMut(&ModeSet<'_>, &[RegionMaterial]) -> Result<()>,
+) -> Result<()> {
     let mut geom = super::load_geometry(&args.geometry)?;
     let band_from = apply_overrides(args, &mut geom)?;
     // The file's order was checked by its parser; an unavailable one here came from --order.
@@ -94,6 +103,7 @@ pub fn run(args: &ModesArgs) -> Result<()> {
     let result = solve_modes(&mesh, &mats, &settings, &mut |s| spinner.stage(s));
     spinner.finish();
     let set = result.map_err(|e| with_hint(e, order))?;
+    inspect(&set, &mats)?;
 
     // Rows and band summary. The band is shown in the file's GHz; figures use Hz.
     let target_ghz = geom.solve.target;
