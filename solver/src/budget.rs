@@ -78,6 +78,26 @@ pub fn plan_driven(mesh: &TetMesh, order: crate::fem::NedelecOrder, n_ports: usi
     estimate(space.n_dofs(), true, order.per_tet(), DRIVEN_BASIS_COMPLEX)
 }
 
+/// Memory the front end allows a solve (bytes; 0 = no limit), checked against the exact
+/// size of the largest single allocation, the factor's values, once the symbolic
+/// factorisation has counted them and before they are allocated. Process-wide because
+/// it describes the machine, not one problem.
+static MEMORY_LIMIT: std::sync::atomic::AtomicU64 = std::sync::atomic::AtomicU64::new(0);
+
+/// Sets the memory a solve may use (`None`: no limit, the default).
+pub fn set_memory_limit(bytes: Option<f64>) {
+    let v = bytes.map_or(0, |b| b.max(1.0) as u64);
+    MEMORY_LIMIT.store(v, std::sync::atomic::Ordering::Relaxed);
+}
+
+/// The limit set by [`set_memory_limit`].
+pub fn memory_limit() -> Option<f64> {
+    match MEMORY_LIMIT.load(std::sync::atomic::Ordering::Relaxed) {
+        0 => None,
+        v => Some(v as f64),
+    }
+}
+
 /// Free unknowns expected on a mesh of `tets` tetrahedra, before it exists: with
 /// F ≈ 2T faces (each interior face shared by two tetrahedra) and Euler's relation
 /// V − E + F − T = 1, E ≈ V + T; the extruded meshes have V ≈ T/6 (three tetrahedra per
@@ -115,6 +135,17 @@ mod tests {
                 (est / counted - 1.0).abs() < 0.15,
                 "{order:?}: {est} vs {counted}"
             );
+        }
+    }
+
+    /// An allocation no allocator can give (half the address space) is a typed error,
+    /// not an abort.
+    #[test]
+    fn an_impossible_factor_allocation_is_an_error() {
+        let len = usize::MAX / 16;
+        match crate::linalg::factor::zeroed(len, "factor values") {
+            Err(crate::SolverError::OutOfMemory { bytes, .. }) => assert!(bytes > 1 << 60),
+            other => panic!("expected OutOfMemory, got {:?}", other.map(|v| v.len())),
         }
     }
 }

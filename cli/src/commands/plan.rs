@@ -98,6 +98,12 @@ pub fn check_solve(
         );
         return Ok(());
     };
+    if !allow_large {
+        // The factor's values, counted exactly before they are allocated, get the same
+        // limit (the fill estimate can be low: a single 13.6 GB allocation once followed
+        // a 12.8 GB plan).
+        budget::set_memory_limit(Some(MEMORY_SHARE * a.bytes));
+    }
     if plan.memory_bytes > MEMORY_SHARE * a.bytes && !allow_large {
         bail!(
             "this solve would need an estimated {} ({} unknowns at order {}{}, ~{:.2e} factor \
