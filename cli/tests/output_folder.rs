@@ -243,10 +243,8 @@ fn count_above_the_problem_size_has_its_own_message() {
     ]);
     let err = text(&o.stderr);
     assert!(!o.status.success());
-    assert!(
-        err.contains("more modes than this problem has unknowns"),
-        "{err}"
-    );
+    // Refused from the mesher's estimate before meshing, or from the exact count after.
+    assert!(err.contains("more modes than this problem"), "{err}");
     assert!(!err.contains("--order 1"), "{err}");
     assert!(!out.exists());
     std::fs::remove_dir_all(&dir).unwrap();

@@ -46,8 +46,8 @@ pub enum SolverError {
     },
     /// Not enough memory for a workspace.
     #[error(
-        "not enough memory for the {workspace} ({bytes} bytes, refused before allocating); \
-         the problem must be made smaller"
+        "not enough memory for the {workspace} ({bytes} bytes: more than this run may use \
+         or the system would give; refused before allocating)"
     )]
     OutOfMemory {
         /// Which workspace.

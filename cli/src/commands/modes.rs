@@ -82,7 +82,11 @@ pub fn run_with(
     let mats = region_materials(&geom, settings.target_hz);
     let basis = budget::basis_size(&settings);
     let complex = settings.is_complex(&mats);
-    let pre = plan::before_meshing(&geom, order, complex, basis, args.allow_large)?;
+    let count = plan::CountBasis {
+        count: settings.count,
+        usual: settings.eigen.basis,
+    };
+    let pre = plan::before_meshing(&geom, order, complex, basis, Some(count), args.allow_large)?;
     // The output folder is checked (and its staging folder made) before meshing.
     let out = match args.plan {
         true => None,

@@ -24,6 +24,13 @@ pub const MEMORY_SHARE: f64 = 0.9;
 /// 2,667,504 tetrahedra (238 B each; development machine, 2026-12-03), rounded up.
 pub const MESHING_BYTES_PER_TET: f64 = 300.0;
 
+/// The wanted mode count of a `modes` run and the eigen basis it would have without it.
+#[derive(Clone, Copy, Debug)]
+pub struct CountBasis {
+    pub count: usize,
+    pub usual: usize,
+}
+
 /// What the run is expected to need, before meshing.
 #[derive(Clone, Copy, Debug)]
 pub struct PrePlan {
@@ -46,6 +53,7 @@ pub fn before_meshing(
     order: NedelecOrder,
     complex: bool,
     basis: usize,
+    count: Option<CountBasis>,
     allow_large: bool,
 ) -> Result<Option<PrePlan>> {
     if geom.mesh.import.is_some() {
@@ -61,12 +69,34 @@ pub fn before_meshing(
         meshing_bytes: MESHING_BYTES_PER_TET * est.tets,
         solve_bytes: solve.memory_bytes,
     };
+    let mut basis_note = String::new();
+    if let Some(c) = count {
+        // The estimate may be 1/0.87 off the mesher's count (mesher::ESTIMATE_MARGIN).
+        if c.count as f64 > unknowns * mesher::ESTIMATE_MARGIN {
+            bail!(
+                "--count {} asks for more modes than this problem will have unknowns (about \
+                 {:.0} at order {} by the mesher's estimate): use a smaller --count, or \
+                 refine the mesh (--per-wavelength, --max-size)",
+                c.count,
+                unknowns,
+                order.as_int()
+            );
+        }
+        let usual = budget::estimate(unknowns as usize, complex, order.per_tet(), c.usual);
+        if solve.memory_bytes > 2.0 * usual.memory_bytes {
+            basis_note = format!(
+                "; most of it the eigen basis of {basis} vectors for --count {} (use a \
+                 smaller --count)",
+                c.count
+            );
+        }
+    }
     if let Some(a) = crate::budget::available() {
         if plan.peak_bytes() > MEMORY_SHARE * a.bytes && !allow_large {
             bail!(
                 "this run would need an estimated {} before it starts meshing (about {:.2e} \
                  tetrahedra by the mesher's estimate, ~{:.2e} unknowns at order {}{}; meshing \
-                 {}, solve {}), but only {} is available ({}); {}",
+                 {}, solve {}), but only {} is available ({}){basis_note}; {}",
                 units::bytes(plan.peak_bytes()),
                 plan.tets,
                 plan.unknowns,
@@ -98,6 +128,12 @@ pub fn check_solve(
         );
         return Ok(());
     };
+    if !allow_large {
+        // The factor's values, counted exactly before they are allocated, get the same
+        // limit (the fill estimate can be low: a single 13.6 GB allocation once followed
+        // a 12.8 GB plan).
+        budget::set_memory_limit(Some(MEMORY_SHARE * a.bytes));
+    }
     if plan.memory_bytes > MEMORY_SHARE * a.bytes && !allow_large {
         bail!(
             "this solve would need an estimated {} ({} unknowns at order {}{}, ~{:.2e} factor \

@@ -59,14 +59,18 @@ pub struct SymmetricFactor {
     refine_state: std::sync::atomic::AtomicU8,
 }
 
-/// A zeroed vector of `len` entries, or [`SolverError::OutOfMemory`] when the allocator
-/// refuses it (the factor's values are the largest single allocation of a solve, and a
+/// A zeroed vector of `len` entries, or [`SolverError::OutOfMemory`] when it exceeds
+/// [`crate::budget::memory_limit`] or the allocator refuses it (the factor's values are the largest single allocation of a solve, and a
 /// user's mesh settings decide their size).
 pub fn zeroed(len: usize, workspace: &'static str) -> Result<Vec<f64>, SolverError> {
     let oom = || SolverError::OutOfMemory {
         workspace,
         bytes: len.saturating_mul(std::mem::size_of::<f64>()),
     };
+    let bytes = len as f64 * std::mem::size_of::<f64>() as f64;
+    if crate::budget::memory_limit().is_some_and(|limit| bytes > limit) {
+        return Err(oom());
+    }
     let mut v = Vec::new();
     v.try_reserve_exact(len).map_err(|_| oom())?;
     v.resize(len, 0.0);

@@ -159,6 +159,7 @@ pub fn run(args: &DriveArgs) -> Result<()> {
         order,
         true,
         antinode_solver::budget::DRIVEN_BASIS_COMPLEX,
+        None,
         args.allow_large,
     )?;
     let out = folder::prepare(&super::output_dir(args.out.as_deref(), &args.geometry))?;
