@@ -270,3 +270,35 @@ fn random_load_placements_seeded() {
         );
     }
 }
+
+#[test]
+#[ignore = "heavy: meshes the 1 L oven both ways (about a minute, ~3 GB); run with --ignored"]
+fn heavy_oven_1l_figures() {
+    // Figures only (printed, not asserted beyond the invariants): tets per region, time
+    // and quality of geometries/oven_1l.toml with both methods.
+    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("../geometries/oven_1l.toml");
+    let g = Geometry::from_file(&path).expect("oven_1l.toml");
+    for method in [MeshMethod::Graded, MeshMethod::Extruded] {
+        let mut g = g.clone();
+        g.mesh.method = method;
+        let t0 = std::time::Instant::now();
+        let c = mesh_geometry_curved(&g).expect("mesh");
+        let dt = t0.elapsed();
+        let vols = check_invariants(&g, &c.mesh);
+        let q = quality_report(&c.mesh);
+        let per: Vec<usize> = (0..c.mesh.regions.len() as u32)
+            .map(|r| c.mesh.tet_region.iter().filter(|&&x| x == r).count())
+            .collect();
+        println!(
+            "{method:?}: {} tets {per:?} (air, plate, water) in {dt:.2?}; water volume {:.6} L \
+             (πr²h = {:.6} L); dihedral {:.1}°..{:.1}°, {} poor; {} projections undone",
+            c.mesh.tets.len(),
+            vols[2] * 1e3,
+            PI * 70.0 * 70.0 * 65.0 * 1e-6,
+            q.min_dihedral_deg,
+            q.max_dihedral_deg,
+            q.poor_count,
+            c.projections_undone
+        );
+    }
+}

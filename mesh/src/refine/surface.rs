@@ -11,10 +11,11 @@
 //! height does exactly.
 //!
 //! Projection may invert a thin tetrahedron on the concave side of a surface (the air
-//! around a load). After refinement, [`undo_flat_projections`] moves the vertices of
-//! every tetrahedron flatter than [`FLAT`] back onto their chord and repeats until none
-//! is left; with every projection undone the mesh is the plain bisection of a valid
-//! mesh, which is valid, so the loop ends.
+//! around a load). After refinement, [`undo_flat_projections`] moves the projected
+//! vertices of every tetrahedron that is inverted, or flatter than [`FLAT`] and flatter
+//! than without its projections, back onto their chord and repeats until none is left;
+//! with every projection undone the mesh is the plain bisection of a valid mesh, which
+//! is valid, so the loop ends.
 //!
 //! [`CurvedSurface`] describes each surface exactly (axis, radius, height range) so a
 //! solver can later use curved (isoparametric) elements on the faces listed with it.
@@ -142,9 +143,8 @@ pub fn surface_faces(mesh: &TetMesh, surfaces: &[CurvedSurface]) -> Vec<([u32; 3
         .collect()
 }
 
-/// Whether tetrahedron `t` is flat or inverted (see [`FLAT`]).
-fn is_flat(b: &Bisection, t: usize) -> bool {
-    let p = b.tets[t].map(|v| b.nodes[v as usize]);
+/// Signed volume and mean edge of the tetrahedron with vertices `p`.
+fn volume_and_mean_edge(p: [[f64; 3]; 4]) -> (f64, f64) {
     let vol = dot(sub(p[1], p[0]), cross(sub(p[2], p[0]), sub(p[3], p[0]))) / 6.0;
     let mut mean = 0.0;
     for i in 0..4 {
@@ -153,7 +153,36 @@ fn is_flat(b: &Bisection, t: usize) -> bool {
             mean += dot(d, d).sqrt() / 6.0;
         }
     }
-    vol <= FLAT * mean.powi(3)
+    (vol, mean)
+}
+
+/// Whether a projection spoils tetrahedron `t`: it is inverted, or flat (see [`FLAT`])
+/// and flatter than with its projected vertices back on their chords. A tet that is flat
+/// without any projection (a sliver inherited from the starting mesh) is not blamed on
+/// the surface, so its vertices stay on it.
+fn spoiled_by_projection(b: &Bisection, projected: &HashMap<u32, u32>, t: usize) -> bool {
+    let tet = b.tets[t];
+    if !tet.iter().any(|v| projected.contains_key(v)) {
+        return false;
+    }
+    let p = tet.map(|v| b.nodes[v as usize]);
+    let (vol, mean) = volume_and_mean_edge(p);
+    if vol <= 0.0 {
+        return true;
+    }
+    if vol > FLAT * mean.powi(3) {
+        return false;
+    }
+    let chord = tet.map(|v| match projected.get(&v) {
+        Some(_) => {
+            let [a, c] = b.parents[v as usize - b.first_new]
+                .edge
+                .map(|i| b.nodes[i as usize]);
+            std::array::from_fn(|k| 0.5 * (a[k] + c[k]))
+        }
+        None => b.nodes[v as usize],
+    });
+    vol < volume_and_mean_edge(chord).0
 }
 
 /// Undoes projections until no tetrahedron is flat: every projected vertex (`projected`:
@@ -169,7 +198,7 @@ pub fn undo_flat_projections(
     loop {
         let flat: Vec<usize> = (0..b.tets.len())
             .into_par_iter()
-            .filter(|&t| is_flat(b, t))
+            .filter(|&t| spoiled_by_projection(b, projected, t))
             .collect();
         let before = undone;
         for t in flat {
