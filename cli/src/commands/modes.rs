@@ -262,12 +262,7 @@ fn check_plan(
     }
     let avail = crate::budget::available();
     // When the eigen basis for a large --count dominates, say so.
-    let usual = budget::estimate(
-        plan.n_dofs,
-        plan.complex,
-        order,
-        settings.eigen.basis,
-    );
+    let usual = budget::estimate(plan.n_dofs, plan.complex, order, settings.eigen.basis);
     let basis_note = (plan.memory_bytes > 2.0 * usual.memory_bytes).then(|| {
         format!(
             "; most of it the eigen basis of {} vectors for --count {} (use a smaller \

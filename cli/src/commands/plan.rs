@@ -82,7 +82,7 @@ pub fn before_meshing(
                 order.as_int()
             );
         }
-        let usual = budget::estimate(unknowns as usize, complex, order.per_tet(), c.usual);
+        let usual = budget::estimate(unknowns as usize, complex, order, c.usual);
         if solve.memory_bytes > 2.0 * usual.memory_bytes {
             basis_note = format!(
                 "; most of it the eigen basis of {basis} vectors for --count {} (use a \
@@ -167,7 +167,8 @@ const COMPLEX_TIME_FACTOR: f64 = 1.8;
 
 /// Rough wall time of the solve on the 2-core development machine.
 pub fn time_estimate(plan: &budget::Plan) -> f64 {
-    let reference = budget::estimate(TIME_REF.0 as usize, false, NedelecOrder::Two, 80).factor_entries;
+    let reference =
+        budget::estimate(TIME_REF.0 as usize, false, NedelecOrder::Two, 80).factor_entries;
     let ratio = (plan.factor_entries / reference).powf(TIME_EXPONENT);
     TIME_REF.1
         * ratio
