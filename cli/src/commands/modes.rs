@@ -230,11 +230,7 @@ fn check_plan(
             units::bytes(plan.memory_bytes),
             plan.n_dofs,
             order.as_int(),
-            if plan.complex {
-                ", complex: solved as a real system of twice the size"
-            } else {
-                ""
-            },
+            if plan.complex { ", complex" } else { "" },
             plan.factor_entries,
             units::bytes(a)
         ),

@@ -123,8 +123,8 @@ fn check_plan(args: &DriveArgs, mesh: &antinode_mesh::TetMesh, geom: &Geometry) 
     if let Some(a) = avail {
         if plan.memory_bytes > MEMORY_SHARE * a && !args.allow_large {
             bail!(
-                "this solve would need an estimated {} ({} unknowns at order {}, complex: \
-                 solved as a real system of twice the size), but only {} is available \
+                "this solve would need an estimated {} ({} unknowns at order {}, complex), \
+                 but only {} is available \
                  (MemAvailable); use --order 1, a smaller --per-wavelength or a larger \
                  --max-size, or pass --allow-large to try anyway",
                 units::bytes(plan.memory_bytes),
