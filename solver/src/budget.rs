@@ -5,7 +5,7 @@
 //! entry count grew like c·n^{4/3} on this project's box and cylinder meshes (measured on
 //! the development machine, order 1 and 2, n = 3k…340k: c ≈ 19–25; the 4/3 power is the
 //! known growth of nested dissection on 3-D meshes, George 1973 / Lipton–Rose–Tarjan 1979,
-//! from memory). The estimate uses c = 30 to stay on the safe side. The complex path
+//! from memory). With METIS the constant is smaller, see [`fill_constant`]. The complex path
 //! factorises the n × n complex symmetric matrix natively (same structure as the real
 //! factor, 16 bytes per entry instead of 8).
 
@@ -14,8 +14,17 @@ use crate::fem::Space;
 use crate::modes::ModeSettings;
 use antinode_mesh::TetMesh;
 
-/// Fill constant of the estimate (see the module docs).
-pub const FILL_CONSTANT: f64 = 30.0;
+/// Fill constant of the estimate (see the module docs) for `per_tet` local functions:
+/// with the METIS ordering the measured constants were ≈ 7.7 at order 1 (fed box, 19k
+/// unknowns, 3.8M entries) and ≈ 10 at order 2 (empty box, 120k, 60M); the estimate
+/// takes 1.3× and 1.5× those to stay on the safe side.
+pub fn fill_constant(per_tet: usize) -> f64 {
+    if per_tet <= 6 {
+        10.0
+    } else {
+        15.0
+    }
+}
 
 /// What a solve will need.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -45,7 +54,7 @@ pub fn plan(mesh: &TetMesh, materials: &[RegionMaterial], settings: &ModeSetting
 /// `basis` is the eigen basis size.
 pub fn estimate(n: usize, complex: bool, per_tet: usize, basis: usize) -> Plan {
     let nf = n as f64;
-    let factor_entries = FILL_CONSTANT * nf.powf(4.0 / 3.0);
+    let factor_entries = fill_constant(per_tet) * nf.powf(4.0 / 3.0);
     // Matrix rows hold about 2.5 × the local functions (measured ≈ 16 for order 1 and ≈ 45
     // for order 2); K, M′, M″ and the shifted copy (real and imaginary parts when
     // complex) each store values and column indices (12 bytes per entry).
