@@ -5,20 +5,29 @@
 //! entry count grew like c·n^{4/3} on this project's box and cylinder meshes (measured on
 //! the development machine, order 1 and 2, n = 3k…340k: c ≈ 19–25; the 4/3 power is the
 //! known growth of nested dissection on 3-D meshes, George 1973 / Lipton–Rose–Tarjan 1979,
-//! from memory). The estimate uses c = 30 to stay on the safe side. At order 3 the real
-//! path measured c = 8.5 (n = 41k) and 8.9 (n = 100k) on the empty 300 × 300 × 200 mm box
-//! (order 2 at n = 67k: 8.4, same machine and session), inside the same constant, so one
-//! constant serves every order; `tests/tests/budget.rs` prints estimate against measured
-//! for orders 1–3 on two mesh sizes and fails if the estimate drops below the
-//! measurement. The complex path factorises a real system of 2n unknowns.
+//! from memory). With METIS the constant is smaller, see [`fill_constant`]; at order 3 the
+//! real path measured c = 8.5 (n = 41k) and 8.9 (n = 100k) on the empty 300 × 300 × 200 mm
+//! box (order 2 at n = 67k: 8.4, same machine and session), so order 3 takes order 2's
+//! constant; `tests/tests/budget.rs` prints estimate against measured for orders 1–3 on
+//! two mesh sizes and fails if the estimate drops below the measurement. The complex path
+//! factorises the n × n complex symmetric matrix natively (same structure as the real
+//! factor, 16 bytes per entry instead of 8).
 
 use crate::fem::assembly::RegionMaterial;
 use crate::fem::{NedelecOrder, Space};
 use crate::modes::ModeSettings;
 use antinode_mesh::TetMesh;
 
-/// Fill constant of the estimate (see the module docs).
-pub const FILL_CONSTANT: f64 = 30.0;
+/// Fill constant of the estimate (see the module docs) for element order `order`: with
+/// the METIS ordering the measured constants were ≈ 7.7 at order 1 (fed box, 19k
+/// unknowns, 3.8M entries), ≈ 10 at order 2 (empty box, 120k, 60M) and 8.5–8.9 at order 3
+/// (empty box, 41k–100k); the estimate takes 1.3× and 1.5× those to stay on the safe side.
+pub fn fill_constant(order: NedelecOrder) -> f64 {
+    match order {
+        NedelecOrder::One => 10.0,
+        NedelecOrder::Two | NedelecOrder::Three => 15.0,
+    }
+}
 
 /// What a solve will need.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -67,19 +76,18 @@ pub fn row_entries(order: NedelecOrder) -> f64 {
 /// [`row_entries`]); `basis` is the eigen basis size.
 pub fn estimate(n: usize, complex: bool, order: NedelecOrder, basis: usize) -> Plan {
     let nf = n as f64;
-    let n_sys = if complex { 2.0 * nf } else { nf };
-    let factor_entries = FILL_CONSTANT * n_sys.powf(4.0 / 3.0);
-    // K, M′, M″, the shifted copy and the 2n form each store values and column indices
-    // (12 bytes per entry).
+    let factor_entries = fill_constant(order) * nf.powf(4.0 / 3.0);
+    // K, M′, M″ and the shifted copy (real and imaginary parts when complex) each store
+    // values and column indices (12 bytes per entry).
     let row = row_entries(order);
-    let matrices = nf * row * 12.0 * if complex { 8.0 } else { 3.0 };
+    let matrices = nf * row * 12.0 * if complex { 5.0 } else { 3.0 };
     let scalar = if complex { 16.0 } else { 8.0 };
     let vectors = nf * basis as f64 * scalar * if complex { 3.0 } else { 4.0 };
     Plan {
         n_dofs: n,
         complex,
         factor_entries,
-        memory_bytes: factor_entries * 8.0 * 1.3 + matrices + vectors,
+        memory_bytes: factor_entries * scalar * 1.3 + matrices + vectors,
     }
 }
 

@@ -2,13 +2,13 @@
 //! orders 1–3 on two sizes of the empty 300 × 300 × 200 mm box.
 //!
 //! The estimate is meant to stay on the safe side (it decides whether a solve is
-//! refused for lack of memory): factor entries c·n^{4/3} with c = `FILL_CONSTANT`
+//! refused for lack of memory): factor entries c·n^{4/3} with c = `fill_constant(order)`
 //! (the n^{4/3} growth of nested dissection on 3-D meshes: George 1973, Lipton–Rose–Tarjan
 //! 1979, from memory) and `row_entries(order)` stored matrix entries per unknown. The test
 //! prints estimate and measurement, the fitted c = factor / n^{4/3} and the growth exponent
 //! between the two sizes, and fails when a measurement exceeds its estimate.
 
-use antinode_solver::budget::{plan, row_entries, FILL_CONSTANT};
+use antinode_solver::budget::{fill_constant, plan, row_entries};
 use antinode_solver::{solve_modes, ModeSettings, NedelecOrder, RegionMaterial};
 use antinode_tests::box_mesh;
 
@@ -39,7 +39,7 @@ fn estimate_covers_measured_factor_and_matrix() {
             let fac = st.factor_nnz as f64;
             let c = fac / n.powf(4.0 / 3.0);
             println!(
-                "  {}    {:>2}×{:>2}×{:>2} {:>7} {:>6.1} ({:>5.1}) {:>8.1} ({:>7.1}) {:>10.2} (est {FILL_CONSTANT}) {:>6.1} s",
+                "  {}    {:>2}×{:>2}×{:>2} {:>7} {:>6.1} ({:>5.1}) {:>8.1} ({:>7.1}) {:>10.2} (est {}) {:>6.1} s",
                 order.as_int(),
                 3 * per,
                 3 * per,
@@ -50,6 +50,7 @@ fn estimate_covers_measured_factor_and_matrix() {
                 fac / n,
                 est.factor_entries / n,
                 c,
+                fill_constant(order),
                 t.elapsed().as_secs_f64()
             );
             assert_eq!(est.n_dofs, st.n_dofs, "planned and solved unknowns differ");

@@ -12,7 +12,7 @@ use std::path::Path;
 pub struct PlanFigures {
     /// Free unknowns counted before assembly (before the port constraints).
     pub unknowns: usize,
-    /// Whether losses or ports make the problem complex (solved as a real 2n system).
+    /// Whether losses or ports make the problem complex (complex symmetric LDLᵀ).
     pub complex: bool,
     /// Estimated entries of the sparse factor (solver's fill estimate).
     pub factor_entries_estimate: f64,

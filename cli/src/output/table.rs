@@ -265,7 +265,7 @@ fn print_solve(doc: &ModesDoc) {
          spurious fields dropped: {}",
         doc.unknowns,
         if s.complex {
-            "complex, solved as a real 2n system"
+            "complex symmetric, LDLᵀ with complex entries"
         } else {
             "real"
         },

@@ -48,7 +48,8 @@ fn cabs1(z: c64) -> f64 {
 }
 
 /// Factorise the column block `a` (rows ≥ columns m; the lower triangle of its top m×m
-/// part and all rows below hold the block) in place.
+/// part and all rows below hold the block) in place; `par` splits the trailing
+/// products over threads.
 ///
 /// On return the strict lower triangle of the top holds L (unit diagonal implied, zero
 /// below the first column of each 2×2 block), its diagonal holds D's diagonal,
@@ -59,6 +60,7 @@ pub fn factor_in_place(
     mut a: MatMut<'_, c64>,
     perm: &mut [u32],
     subdiag: &mut [c64],
+    par: Par,
 ) -> Result<(), ZeroPivot> {
     let (nr, m) = (a.nrows(), a.ncols());
     assert!(nr >= m, "block has fewer rows than columns");
@@ -96,7 +98,7 @@ pub fn factor_in_place(
                 done.as_ref().submatrix(k, start, nr - k, kb),
                 w.as_ref().submatrix(k, 0, m - k, kb).transpose(),
                 c64::new(-1.0, 0.0),
-                Par::Seq,
+                par,
             );
         }
     }
@@ -263,7 +265,7 @@ mod tests {
         let mut f = a0.clone();
         let mut perm = vec![0u32; m];
         let mut sub = vec![c64::new(0.0, 0.0); m];
-        factor_in_place(f.as_mut(), &mut perm, &mut sub).expect("nonsingular block");
+        factor_in_place(f.as_mut(), &mut perm, &mut sub, Par::Seq).expect("nonsingular block");
         let two_by_two = sub.iter().filter(|z| z.re != 0.0 || z.im != 0.0).count();
         if zero_diag {
             assert!(two_by_two > 0, "a zero diagonal must give 2×2 pivots");
@@ -327,7 +329,7 @@ mod tests {
         let mut a = Mat::<c64>::zeros(3, 3);
         let (mut p, mut s) = (vec![0u32; 3], vec![c64::new(0.0, 0.0); 3]);
         assert_eq!(
-            factor_in_place(a.as_mut(), &mut p, &mut s),
+            factor_in_place(a.as_mut(), &mut p, &mut s, Par::Seq),
             Err(ZeroPivot { column: 0 })
         );
     }

@@ -101,6 +101,7 @@ impl ComplexSymmetricFactor {
         let mut values = vec![c64::new(0.0, 0.0); sn.len_val()];
         let mut subdiag = vec![c64::new(0.0, 0.0); n];
         let mut pivot_fwd = vec![0u32; n];
+        let schedule = TreeSchedule::new(sn, rayon::current_num_threads());
         numeric(
             sn,
             Matrix {
@@ -109,6 +110,7 @@ impl ComplexSymmetricFactor {
                 fwd: &fill_fwd,
                 inv: &fill_inv,
             },
+            &schedule,
             &mut values,
             &mut subdiag,
             &mut pivot_fwd,
@@ -118,7 +120,6 @@ impl ComplexSymmetricFactor {
             pivot_inv[p as usize] = i as u32;
         }
         let perm = pivot_fwd.iter().map(|&p| fill_fwd[p as usize]).collect();
-        let schedule = TreeSchedule::new(sn, rayon::current_num_threads());
         Ok(Self {
             symbolic,
             values,
@@ -185,106 +186,175 @@ fn updaters(sn: &Symbolic) -> Vec<Vec<u32>> {
     lists
 }
 
-/// The left-looking numeric factorisation (see the module docs).
+/// The factor's storage, shared by the threads of [`numeric`]: each supernode's values,
+/// 2×2 subdiagonal and pivot order are written by the one task that factorises it, and
+/// read (as a descendant) only after that.
+#[derive(Clone, Copy)]
+struct Storage {
+    values: *mut c64,
+    subdiag: *mut c64,
+    pivot: *mut u32,
+}
+
+// SAFETY: see `numeric`: tasks write disjoint supernodes and read only finished ones.
+unsafe impl Send for Storage {}
+unsafe impl Sync for Storage {}
+
+/// Per-thread work arrays.
+struct Work {
+    /// Local row of each global row in the current supernode's pattern, or NONE.
+    local: Vec<u32>,
+    scratch: Vec<c64>,
+    lperm: Vec<u32>,
+}
+
+/// The left-looking numeric factorisation (see the module docs), tree-parallel: the
+/// schedule's tasks are disjoint subtrees of the elimination tree, and a supernode's
+/// descendants lie in its own subtree, so the tasks run on separate threads; the top
+/// supernodes (their common ancestors) follow in order, with the dense products of each
+/// split over the threads.
 fn numeric(
     sn: &Symbolic,
     a: Matrix<'_>,
+    schedule: &TreeSchedule,
     values: &mut [c64],
     subdiag: &mut [c64],
     pivot_fwd: &mut [u32],
 ) -> Result<(), SolverError> {
+    use rayon::prelude::*;
     let n = sn.nrows();
-    let ns = sn.n_supernodes();
+    assert!(values.len() == sn.len_val() && subdiag.len() == n && pivot_fwd.len() == n);
+    let lists = updaters(sn);
+    let store = Storage {
+        values: values.as_mut_ptr(),
+        subdiag: subdiag.as_mut_ptr(),
+        pivot: pivot_fwd.as_mut_ptr(),
+    };
+    let new_work = || Work {
+        local: vec![NONE; n],
+        scratch: Vec::new(),
+        lperm: Vec::new(),
+    };
+    schedule
+        .tasks()
+        .par_iter()
+        .try_for_each(|task| -> Result<(), SolverError> {
+            let mut work = new_work();
+            for &s in task {
+                // SAFETY: this task owns s and its subtree (all of s's descendants).
+                unsafe {
+                    factor_supernode(sn, &a, &lists, s as usize, store, &mut work, Par::Seq)?
+                };
+            }
+            Ok(())
+        })?;
+    let mut work = new_work();
+    let par = Par::rayon(rayon::current_num_threads());
+    for &s in schedule.top() {
+        // SAFETY: single-threaded here; every task has finished.
+        unsafe { factor_supernode(sn, &a, &lists, s as usize, store, &mut work, par)? };
+    }
+    Ok(())
+}
+
+/// Gather supernode s's columns of P A Pᵀ, apply its descendants' updates and factorise
+/// its block.
+///
+/// # Safety
+/// The caller owns supernode s (no other thread touches its storage) and every
+/// descendant of s is finished and not written meanwhile.
+unsafe fn factor_supernode(
+    sn: &Symbolic,
+    a: &Matrix<'_>,
+    lists: &[Vec<u32>],
+    s: usize,
+    store: Storage,
+    work: &mut Work,
+    par: Par,
+) -> Result<(), SolverError> {
     let (begin, end, ptr) = (
         sn.supernode_begin(),
         sn.supernode_end(),
         sn.col_ptr_for_val(),
     );
-    let lists = updaters(sn);
-    let mut local = vec![NONE; n];
-    let mut scratch = Vec::new();
-    let mut lperm = Vec::new();
-    let (re_ptr, re_idx) = (a.re.indptr(), a.re.indices());
+    let (s0, s1) = (begin[s] as usize, end[s] as usize);
+    let size = s1 - s0;
+    let pattern = sn.supernode(s).pattern();
+    let local = &mut work.local;
+    for (i, &r) in pattern.iter().enumerate() {
+        local[r as usize] = (size + i) as u32;
+    }
+    let len = ptr[s + 1] as usize - ptr[s] as usize;
+    let vals = std::slice::from_raw_parts_mut(store.values.add(ptr[s] as usize), len);
+    let mut ls = MatMut::from_column_major_slice_mut(vals, size + pattern.len(), size);
+    let re_ptr = a.re.indptr();
     let re_ptr = re_ptr.raw_storage();
-    let (re_val, im_val) = (a.re.data(), a.im.data());
-    for s in 0..ns {
-        let (s0, s1) = (begin[s] as usize, end[s] as usize);
-        let size = s1 - s0;
-        let pattern = sn.supernode(s).pattern();
-        for (i, &r) in pattern.iter().enumerate() {
-            local[r as usize] = (size + i) as u32;
-        }
-        let (head, tail) = values.split_at_mut(ptr[s] as usize);
-        let len = ptr[s + 1] as usize - ptr[s] as usize;
-        let mut ls =
-            MatMut::from_column_major_slice_mut(&mut tail[..len], size + pattern.len(), size);
-        for j in s0..s1 {
-            // Column j of P A Pᵀ is column fwd[j] of A (= row fwd[j]: symmetric storage).
-            let orig = a.fwd[j] as usize;
-            for p in re_ptr[orig] as usize..re_ptr[orig + 1] as usize {
-                let i = a.inv[re_idx[p] as usize] as usize;
-                if i < j {
-                    continue;
-                }
-                let row = if i < s1 { i - s0 } else { local[i] as usize };
-                ls[(row, j - s0)] += c64::new(re_val[p], im_val[p]);
+    let (re_idx, re_val, im_val) = (a.re.indices(), a.re.data(), a.im.data());
+    for j in s0..s1 {
+        // Column j of P A Pᵀ is column fwd[j] of A (= row fwd[j]: symmetric storage).
+        let orig = a.fwd[j] as usize;
+        for p in re_ptr[orig] as usize..re_ptr[orig + 1] as usize {
+            let i = a.inv[re_idx[p] as usize] as usize;
+            if i < j {
+                continue;
             }
+            let row = if i < s1 { i - s0 } else { local[i] as usize };
+            ls[(row, j - s0)] += c64::new(re_val[p], im_val[p]);
         }
-        let (sub_done, sub_s) = subdiag.split_at_mut(s0);
-        for &d in &lists[s] {
-            let cols = (s0, s1);
-            update_from(
-                sn,
-                d as usize,
-                cols,
-                head,
-                sub_done,
-                &local,
-                ls.as_mut(),
-                &mut scratch,
-            );
+    }
+    for &d in &lists[s] {
+        let d = d as usize;
+        let d0 = begin[d] as usize;
+        let dsize = end[d] as usize - d0;
+        let dlen = ptr[d + 1] as usize - ptr[d] as usize;
+        let dvals = std::slice::from_raw_parts(store.values.add(ptr[d] as usize), dlen);
+        let dsub = std::slice::from_raw_parts(store.subdiag.add(d0), dsize);
+        let desc = Descendant {
+            pattern: sn.supernode(d).pattern(),
+            values: dvals,
+            subdiag: dsub,
+        };
+        update_from(&desc, (s0, s1), local, ls.as_mut(), &mut work.scratch, par);
+    }
+    work.lperm.resize(size, 0u32);
+    let sub = std::slice::from_raw_parts_mut(store.subdiag.add(s0), size);
+    bunch_kaufman::factor_in_place(ls, &mut work.lperm, sub, par).map_err(|z| {
+        SolverError::FactorFailed {
+            step: FactorStep::NumericComplexLdlt,
+            n: sn.nrows(),
+            detail: format!("zero pivot at column {} of {}", s0 + z.column, sn.nrows()),
         }
-        lperm.resize(size, 0u32);
-        bunch_kaufman::factor_in_place(ls, &mut lperm, &mut sub_s[..size]).map_err(|z| {
-            SolverError::FactorFailed {
-                step: FactorStep::NumericComplexLdlt,
-                n,
-                detail: format!("zero pivot at column {} of {n}", s0 + z.column),
-            }
-        })?;
-        for (i, &p) in lperm.iter().enumerate() {
-            pivot_fwd[s0 + i] = (s0 + p as usize) as u32;
-        }
-        for &r in pattern {
-            local[r as usize] = NONE;
-        }
+    })?;
+    let piv = std::slice::from_raw_parts_mut(store.pivot.add(s0), size);
+    for (p, &l) in piv.iter_mut().zip(&work.lperm) {
+        *p = (s0 + l as usize) as u32;
+    }
+    for &r in pattern {
+        local[r as usize] = NONE;
     }
     Ok(())
 }
 
+/// A finished descendant supernode: its pattern, values and 2×2 subdiagonal.
+struct Descendant<'a> {
+    pattern: &'a [u32],
+    values: &'a [c64],
+    subdiag: &'a [c64],
+}
+
 /// Subtract descendant d's update from supernode s (columns [s0, s1)):
-/// L_s −= L_d[rows ≥ s0] D_d L_d[rows in s]ᵀ, scattered to s's rows. `sub` is the
-/// factor's 2×2 subdiagonal for the columns before s0.
-#[allow(clippy::too_many_arguments)]
+/// L_s −= L_d[rows ≥ s0] D_d L_d[rows in s]ᵀ, scattered to s's rows.
 fn update_from(
-    sn: &Symbolic,
-    d: usize,
+    d: &Descendant<'_>,
     (s0, s1): (usize, usize),
-    head: &[c64],
-    sub: &[c64],
     local: &[u32],
     mut ls: MatMut<'_, c64>,
     scratch: &mut Vec<c64>,
+    par: Par,
 ) {
-    let ptr = sn.col_ptr_for_val();
-    let d0 = sn.supernode_begin()[d] as usize;
-    let dsize = sn.supernode_end()[d] as usize - d0;
-    let dpat = sn.supernode(d).pattern();
-    let ld = MatRef::from_column_major_slice(
-        &head[ptr[d] as usize..ptr[d + 1] as usize],
-        dsize + dpat.len(),
-        dsize,
-    );
+    let dpat = d.pattern;
+    let dsize = d.subdiag.len();
+    let ld = MatRef::from_column_major_slice(d.values, dsize + dpat.len(), dsize);
     let first = dpat.partition_point(|&r| (r as usize) < s0);
     let mid = dpat[first..].partition_point(|&r| (r as usize) < s1);
     let below = dpat.len() - first;
@@ -295,7 +365,7 @@ fn update_from(
     scratch.resize(mid * dsize + below * mid, c64::new(0.0, 0.0));
     let (ldd, prod) = scratch.split_at_mut(mid * dsize);
     let mut ldd = MatMut::from_column_major_slice_mut(ldd, mid, dsize);
-    let dsub = &sub[d0..d0 + dsize];
+    let dsub = d.subdiag;
     let mut j = 0;
     while j < dsize {
         let a = ld[(j, j)];
@@ -322,7 +392,7 @@ fn update_from(
         l_mid_bot,
         ldd.as_ref().transpose(),
         c64::new(1.0, 0.0),
-        Par::Seq,
+        par,
     );
     for (jj, &col) in dpat[first..first + mid].iter().enumerate() {
         let js = col as usize - s0;

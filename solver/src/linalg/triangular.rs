@@ -215,6 +215,18 @@ impl TreeSchedule {
     }
 }
 
+impl TreeSchedule {
+    /// Supernodes of each parallel task (whole subtrees), ascending.
+    pub fn tasks(&self) -> &[Vec<u32>] {
+        &self.tasks
+    }
+
+    /// The top supernodes (ancestors shared by the tasks), ascending.
+    pub fn top(&self) -> &[u32] {
+        &self.top
+    }
+}
+
 /// Raw access to the row-major right-hand sides shared by the tasks.
 struct Rows<T> {
     ptr: *mut T,
