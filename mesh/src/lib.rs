@@ -16,6 +16,7 @@ pub mod quality;
 pub mod structured;
 pub mod tet_mesh;
 pub mod vtk;
+pub mod water;
 
 pub use geometry::Geometry;
 pub use make::make_mesh;
