@@ -6,8 +6,8 @@
 //!
 //! Each case runs in a child process so that its peak resident memory (VmHWM) is its
 //! own. Run: `cargo bench -p antinode-tests --bench box_modes` (add `-- quick` for the
-//! small cases only, `-- yardstick` to also run the general-purpose Python path from
-//! `shared/yardstick/` when scikit-fem and scipy are installed). One case alone:
+//! small cases only, `-- yardstick` to also run the general-purpose Python path
+//! `tests/python/general_fem_box.py` when scikit-fem and scipy are installed). One case alone:
 //! `ANTINODE_BENCH_ORDER=2 ANTINODE_BENCH_GRID=18,18,13` on the bench executable.
 
 use antinode_mesh::structured::{grid_mesh, GridLines};
@@ -175,10 +175,7 @@ fn main() {
         }
     }
     if args.iter().any(|a| a == "yardstick") {
-        let script = concat!(
-            env!("CARGO_MANIFEST_DIR"),
-            "/../../shared/yardstick/general_fem_box.py"
-        );
+        let script = concat!(env!("CARGO_MANIFEST_DIR"), "/python/general_fem_box.py");
         for n in ["4", "8"] {
             let t = Instant::now();
             match Command::new("/usr/bin/time")
