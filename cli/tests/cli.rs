@@ -207,7 +207,7 @@ count = 2
         ] {
             finite_positive(&m[key], key);
         }
-        finite_positive(&m["q_ports"][0], "q_ports[0]");
+        finite_positive(&m["q_ext"][0], "q_ext[0]");
         finite_positive(&m["coupling"][0], "coupling[0]");
         let g = m["reflection"][0].as_f64().expect("reflection");
         assert!((0.0..=1.0).contains(&g), "|Γ| = {g}");
@@ -220,10 +220,10 @@ count = 2
         // Q_L is below each of its parts.
         let ql = m["q_loaded"].as_f64().unwrap();
         assert!(ql <= m["q_dielectric"].as_f64().unwrap() * (1.0 + 1e-12));
-        assert!(ql <= m["q_ports"][0].as_f64().unwrap() * (1.0 + 1e-12));
+        assert!(ql <= m["q_ext"][0].as_f64().unwrap() * (1.0 + 1e-12));
         println!(
             "f = {:.6} GHz: Q_L {:.1}, Q_d {:.1}, Q_c {:.0}, Q_ext {:.1}, κ {:.3}, |Γ| {:.3}, check {:?}",
-            m["frequency_ghz"], ql, m["q_dielectric"], m["q_walls"], m["q_ports"][0],
+            m["frequency_ghz"], ql, m["q_dielectric"], m["q_walls"], m["q_ext"][0],
             m["coupling"][0], g, m["q_check_relative"]
         );
     }
@@ -283,7 +283,7 @@ count = 1
         m["q_walls"].is_null(),
         "PEC walls: Q_c should be null (infinite)"
     );
-    assert!(m["q_ports"].as_array().is_some_and(|a| a.is_empty()));
+    assert!(m["q_ext"].as_array().is_some_and(|a| a.is_empty()));
     std::fs::remove_dir_all(&dir).unwrap();
 }
 

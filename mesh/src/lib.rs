@@ -19,6 +19,7 @@ pub mod structured;
 pub mod sweep;
 pub mod tet_mesh;
 pub mod vtk;
+pub mod water;
 
 pub use geometry::Geometry;
 pub use make::make_mesh;

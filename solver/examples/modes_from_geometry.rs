@@ -8,7 +8,8 @@
 //! space, assembly with ports, factorised shifted operator, iteration, checks, losses).
 
 use antinode_mesh::{make_mesh, Geometry};
-use antinode_solver::post::band::{band_figures, ISM_BAND_HZ};
+use antinode_solver::post::band::{band_figures, SearchFacts, ISM_BAND_HZ};
+use antinode_solver::post::warnings::review_run;
 use antinode_solver::problem::{weyl_cavity, Problem};
 use antinode_solver::{solve_modes, NedelecOrder};
 use std::error::Error;
@@ -53,13 +54,21 @@ fn main() -> Result<(), Box<dyn Error>> {
         .map(|m| (m.frequency_hz, m.q.q_loaded))
         .collect();
     let vols = mesh.region_volumes();
+    let review = review_run(&geom, &mesh, &problem.materials, settings, &set.modes, band);
     let figures = band_figures(
         &freq_q,
         band,
-        settings.target_hz,
-        set.stats.search_radius,
+        SearchFacts {
+            target_hz: settings.target_hz,
+            search_radius: set.stats.search_radius,
+            lossless: !set.stats.complex,
+            group_tolerance: review.group_tolerance,
+        },
         weyl_cavity(&geom, &vols, &problem.materials),
     );
+    for w in &review.warnings {
+        println!("warning: {w}");
+    }
     println!(
         "band {:.3}–{:.3} GHz: {} modes found, Weyl estimate {:.1}, modal overlap {:?}",
         band[0] / 1e9,

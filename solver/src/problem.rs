@@ -108,6 +108,7 @@ pub fn weyl_cavity(
         },
         _ => WeylCavity::General {
             optical_volume_m3: optical_volume(region_volumes_m3, materials),
+            volume_m3: region_volumes_m3.iter().sum(),
             loaded: !geom.loads.is_empty(),
         },
     }

@@ -7,9 +7,10 @@
 //!
 //! Each case runs in a child process so that its peak resident memory (VmHWM) is its
 //! own. Run: `cargo bench -p antinode-tests --bench box_modes` (add `-- quick` for the
-//! small cases only, `-- yardstick` to also run the general-purpose Python path from
-//! `shared/yardstick/` when scikit-fem and scipy are installed, `-- high-order-yardstick`
-//! to run `shared/yardstick/high_order_box.py` (ngsolve and scipy) at degrees 3 and 4
+//! small cases only, `-- yardstick` to also run the general-purpose Python path
+//! `tests/python/general_fem_box.py` when scikit-fem and scipy are installed,
+//! `-- high-order-yardstick` to run the high-order yardstick script `high_order_box.py`
+//! (ngsolve and scipy; its folder given by `ANTINODE_YARDSTICK_DIR`) at degrees 3 and 4
 //! beside it, and `-- levels` for a shorter series around the three accuracy levels).
 //! One case alone:
 //! `ANTINODE_BENCH_ORDER=2 ANTINODE_BENCH_GRID=18,18,13` on the bench executable.
@@ -217,10 +218,7 @@ fn main() {
         high_order_yardstick();
     }
     if args.iter().any(|a| a == "yardstick") {
-        let script = concat!(
-            env!("CARGO_MANIFEST_DIR"),
-            "/../../shared/yardstick/general_fem_box.py"
-        );
+        let script = concat!(env!("CARGO_MANIFEST_DIR"), "/python/general_fem_box.py");
         for n in ["4", "8"] {
             let t = Instant::now();
             match Command::new("/usr/bin/time")

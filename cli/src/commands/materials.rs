@@ -38,9 +38,11 @@ pub fn run(args: &MaterialsArgs) -> Result<()> {
     }
     let f_hz = ghz_to_hz(args.frequency);
     println!(
-        "Built-in materials at {} GHz (water at {} °C). Load materials use ε′, ε″ \
-         (εr = ε′ − jε″); wall metals use conductivity σ and surface resistance \
-         Rs = √(ωμ0/2σ).",
+        "Built-in materials, evaluated at {} GHz where an entry has a frequency model (water at \
+         {} °C; the metals' Rs); the other entries are constants that hold at the frequency and \
+         temperature their \"valid at\" line names, whatever --frequency says. Load \
+         materials use ε′, ε″ (εr = ε′ − jε″); wall metals use conductivity σ and surface \
+         resistance Rs = √(ωμ0/2σ).",
         args.frequency, args.temperature
     );
     println!();
@@ -62,6 +64,7 @@ pub fn run(args: &MaterialsArgs) -> Result<()> {
                 "{:<22} {:>10.3} {:>10.4} {:>10.5}   {}",
                 e.name, er, ei, tand, e.source
             );
+            println!("{:<22} {:>32}   valid at: {}", "", "", e.valid_at);
         }
     }
     println!();

@@ -53,6 +53,18 @@ pub fn count(mesh: &TetMesh) -> MeshCounts {
     }
 }
 
+/// The solver's warnings about the cavity and the mesh (no solve needed).
+fn mesh_warning_docs(geom: &Geometry, mesh: &TetMesh) -> Vec<crate::output::review::WarningDoc> {
+    use antinode_solver::post::warnings::{cavity_warning, mesh_warnings};
+    let target_hz = antinode_solver::problem::ghz_to_hz(geom.solve.target);
+    let mats = antinode_solver::problem::region_materials(geom, target_hz);
+    cavity_warning(geom)
+        .into_iter()
+        .chain(mesh_warnings(mesh, &mats, target_hz))
+        .map(|w| crate::output::review::warning_doc(&w))
+        .collect()
+}
+
 /// Meshes `geom` with a spinner; returns the mesh and the seconds taken.
 pub fn make(geom: &Geometry) -> Result<(TetMesh, f64)> {
     let spinner = Spinner::start("meshing");
@@ -157,6 +169,7 @@ pub fn run(args: &MeshArgs) -> Result<()> {
         q.poor_threshold
     );
     println!("wrote {}/mesh.vtu and boundary.vtu", out_target.display());
+    crate::output::review::print_warnings(&mesh_warning_docs(&geom, &mesh));
     println!(
         "time: meshing {:.2} s, total {:.2} s",
         mesh_s,

@@ -2,6 +2,7 @@
 
 use super::{plan, positive};
 use crate::output::json::{ModesDoc, PlanFigures, RegionInfo, SolveFigures};
+use crate::output::review;
 use crate::output::spectrum::{self, Spectrum, SpectrumMode};
 use crate::output::summary::{
     self, BandSummary, GoodCoupling, ModeRow, WeylEstimate, GOOD_COUPLING_REFLECTION,
@@ -12,7 +13,8 @@ use crate::units;
 use antinode_mesh::{Geometry, TetMesh};
 use antinode_solver::budget::{self, Plan};
 use antinode_solver::modes::SolveStats;
-use antinode_solver::post::band::{band_figures, BandFigures, GROUP_TOLERANCE, ISM_BAND_HZ};
+use antinode_solver::post::band::{band_figures, BandFigures, SearchFacts, ISM_BAND_HZ};
+use antinode_solver::post::warnings::{review_run, RunReview};
 use antinode_solver::problem::{region_materials, settings_from, weyl_cavity};
 use antinode_solver::{
     solve_modes, ModeSet, ModeSettings, NedelecOrder, RegionMaterial, SolverError,
@@ -121,11 +123,17 @@ pub fn run_with(
         .iter()
         .map(|m| (m.frequency_hz, m.q.q_loaded))
         .collect();
+    let summary_band_hz = settings.band_hz.unwrap_or(ISM_BAND_HZ);
+    let run_review = review_run(&geom, &mesh, &mats, &settings, &set.modes, summary_band_hz);
     let figures = band_figures(
         &freq_q,
-        settings.band_hz.unwrap_or(ISM_BAND_HZ),
-        settings.target_hz,
-        set.stats.search_radius,
+        summary_band_hz,
+        SearchFacts {
+            target_hz: settings.target_hz,
+            search_radius: set.stats.search_radius,
+            lossless: !set.stats.complex,
+            group_tolerance: run_review.group_tolerance,
+        },
         weyl_cavity(&geom, &mesh.region_volumes(), &mats),
     );
     let load_names: Vec<String> = geom.loads.iter().map(|l| l.name.clone()).collect();
@@ -162,12 +170,22 @@ pub fn run_with(
         modes: rows,
         band_summary: band_summary(
             &figures,
+            &run_review,
             band,
             band_from,
             good_coupling,
             q_check_max_relative,
         ),
         solve: solve_figures(&mesh, mesh_s, st, &plan, avail),
+        accuracy: review::accuracy_figures(
+            &run_review.accuracy,
+            &mesh
+                .regions
+                .iter()
+                .map(|r| r.name.clone())
+                .collect::<Vec<_>>(),
+        ),
+        warnings: review::warning_docs(&run_review),
     };
 
     // Files, only now that the results exist.
@@ -206,6 +224,7 @@ pub fn run_with(
             }
         }
     }
+    review::print_warnings(&doc.warnings);
     Ok(())
 }
 
@@ -455,6 +474,7 @@ fn region_infos(mats: &[RegionMaterial], load_names: &[String]) -> Vec<RegionInf
 /// The band summary of the documents from the solver's band figures.
 fn band_summary(
     figures: &BandFigures,
+    run_review: &RunReview,
     band: [f64; 2],
     band_from: String,
     good_coupling: Vec<GoodCoupling>,
@@ -466,14 +486,17 @@ fn band_summary(
         modes_in_band: figures.in_band.len(),
         complete: figures.completeness.complete,
         complete_above_q: figures.completeness.above_q,
-        weyl_estimate: WeylEstimate {
-            modes: figures.weyl.modes,
-            formula: figures.weyl.formula.into(),
-            volume_m3: figures.weyl.volume_m3,
-            source: figures.weyl.source.into(),
-        },
+        weyl_estimate: WeylEstimate::from(&figures.weyl),
+        weyl_estimate_air_only: figures.weyl_air_only.as_ref().map(WeylEstimate::from),
         distinct_frequencies: figures.groups_hz.len(),
-        group_tolerance_relative: GROUP_TOLERANCE,
+        group_tolerance_relative: figures.group_tolerance,
+        group_tolerance_basis: match run_review.accuracy.relative_error {
+            Some(e) => format!(
+                "twice the run's expected frequency error {e:.1e} (accuracy estimate): modes \
+                 closer than that cannot be told apart"
+            ),
+            None => "fixed fallback (no accuracy estimate for this order)".into(),
+        },
         mean_spacing_mhz: figures.mean_spacing_hz.map(|s| s * 1e-6),
         modal_overlap: figures.modal_overlap,
         good_coupling,

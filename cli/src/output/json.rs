@@ -2,6 +2,7 @@
 //!
 //! Infinite quality factors are written as `null` (JSON has no infinity).
 
+use super::review::{AccuracyFigures, WarningDoc};
 use super::summary::{BandSummary, ModeRow};
 use anyhow::{Context, Result};
 use serde::Serialize;
@@ -65,7 +66,7 @@ pub struct ModesDoc {
     pub order: u8,
     /// Unknowns of the eigenproblem (after the port constraints).
     pub unknowns: usize,
-    /// Port names, in the order of the per-port arrays (`q_ports`, `coupling`, …).
+    /// Port names, in the order of the per-port arrays (`q_ext`, `coupling`, …).
     pub ports: Vec<String>,
     /// Region ids of the `.vtu` files with their names and materials.
     pub regions: Vec<RegionInfo>,
@@ -78,6 +79,10 @@ pub struct ModesDoc {
     pub modes: Vec<ModeRow>,
     pub band_summary: BandSummary,
     pub solve: SolveFigures,
+    /// The run's expected frequency accuracy (estimate, with its basis).
+    pub accuracy: AccuracyFigures,
+    /// Reasons to distrust this run's figures (empty when none).
+    pub warnings: Vec<WarningDoc>,
 }
 
 pub fn to_string(doc: &ModesDoc) -> Result<String> {

@@ -5,6 +5,7 @@ pub mod folder;
 pub mod json;
 pub mod response_doc;
 pub mod response_svg;
+pub mod review;
 pub mod spectrum;
 pub mod summary;
 pub mod svg;

@@ -206,8 +206,7 @@ fn mode_curves(o: &mut String, plot: &Plot, s: &Spectrum, fs: &[f64]) {
     let (lo, hi) = (plot.lo, plot.hi);
     let x = |f: f64| plot.x(f);
     let y = |v: f64| plot.y(v);
-    let mut last_label = f64::NEG_INFINITY;
-    let mut raised = false;
+    let mut labelled = Vec::new();
     for m in s.modes {
         if m.frequency_ghz < lo || m.frequency_ghz > hi {
             continue;
@@ -232,16 +231,75 @@ fn mode_curves(o: &mut String, plot: &Plot, s: &Spectrum, fs: &[f64]) {
                 y(1.0)
             );
         }
-        // Labels closer than 14 px to the previous one go one line up (alternating).
-        raised = xm - last_label < 14.0 && !raised;
-        last_label = xm;
+        labelled.push((xm, m.index));
+    }
+    for l in label_layout(&labelled) {
         let _ = writeln!(
             o,
-            r##"<text x="{xm:.2}" y="{:.2}" text-anchor="middle" font-size="10" fill="#4a6fb5">{}</text>"##,
-            TOP - if raised { 14.0 } else { 3.0 },
-            m.index
+            r##"<text x="{:.2}" y="{:.2}" text-anchor="middle" font-size="10" fill="#4a6fb5">{}</text>"##,
+            l.x,
+            TOP - if l.raised { 14.0 } else { 3.0 },
+            l.text
         );
     }
+}
+
+/// Modes whose marks are closer than this (px) to the previous one share one label.
+const LABEL_MERGE_PX: f64 = 14.0;
+/// Width of one label character at font size 10 (px), for the overlap test.
+const LABEL_CHAR_PX: f64 = 6.0;
+
+/// A placed mode label.
+#[derive(Debug, PartialEq)]
+struct Label {
+    x: f64,
+    text: String,
+    raised: bool,
+}
+
+/// Labels for marks at (x px, mode index), sorted by x: marks within
+/// [`LABEL_MERGE_PX`] of the previous one (near-degenerate modes) share one label at
+/// their mean x ("5–8" for consecutive indices, "5,7" otherwise); a label that would
+/// overlap the previous one goes one line up, and right of the upper line's last label
+/// when that is taken too, so no two labels overprint.
+fn label_layout(marks: &[(f64, usize)]) -> Vec<Label> {
+    let mut clusters: Vec<Vec<(f64, usize)>> = Vec::new();
+    for &m in marks {
+        match clusters.last_mut() {
+            Some(c) if m.0 - c.last().map_or(f64::NEG_INFINITY, |l| l.0) < LABEL_MERGE_PX => {
+                c.push(m)
+            }
+            _ => clusters.push(vec![m]),
+        }
+    }
+    let mut right_edge = [f64::NEG_INFINITY; 2];
+    clusters
+        .iter()
+        .map(|c| {
+            let x = c.iter().map(|m| m.0).sum::<f64>() / c.len() as f64;
+            let idx: Vec<usize> = c.iter().map(|m| m.1).collect();
+            let consecutive = idx.windows(2).all(|w| w[1] == w[0] + 1);
+            let text = match idx.as_slice() {
+                [one] => one.to_string(),
+                [first, .., last] if consecutive => format!("{first}–{last}"),
+                _ => idx
+                    .iter()
+                    .map(|i| i.to_string())
+                    .collect::<Vec<_>>()
+                    .join(","),
+            };
+            let half = 0.5 * LABEL_CHAR_PX * text.chars().count() as f64;
+            let raised = x - half < right_edge[0] + 2.0;
+            // Both lines taken: shift right of the upper line's last label.
+            let x = if raised {
+                x.max(right_edge[1] + 2.0 + half)
+            } else {
+                x
+            };
+            right_edge[raised as usize] = x + half;
+            Label { x, text, raised }
+        })
+        .collect()
 }
 
 /// The coupled-power curve of each port, the legend and the notes.
@@ -309,5 +367,39 @@ fn port_curves(o: &mut String, plot: &Plot, s: &Spectrum, fs: &[f64]) {
             ly + 18.0 + 14.0 * i as f64,
             esc(note)
         );
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A 4-fold near-degenerate group (marks 0.5 px apart) gets one label "5–8"; a mode
+    /// 100 px away its own.
+    #[test]
+    fn near_degenerate_modes_share_a_label() {
+        let marks = [(100.0, 5), (100.5, 6), (101.0, 7), (101.5, 8), (201.5, 9)];
+        let l = label_layout(&marks);
+        assert_eq!(l.len(), 2);
+        assert_eq!(l[0].text, "5–8");
+        assert!((l[0].x - 100.75).abs() < 1e-12);
+        assert_eq!((l[1].text.as_str(), l[1].raised), ("9", false));
+    }
+
+    /// Labels 15–30 px apart never overlap on one line: each label's extent (character
+    /// width estimate) is checked against every other label on the same line.
+    #[test]
+    fn labels_never_overprint() {
+        let marks: Vec<(f64, usize)> = (0..40).map(|i| (15.0 * i as f64, 100 + i)).collect();
+        let l = label_layout(&marks);
+        for (i, a) in l.iter().enumerate() {
+            for b in &l[i + 1..] {
+                if a.raised == b.raised {
+                    let ha = 0.5 * LABEL_CHAR_PX * a.text.chars().count() as f64;
+                    let hb = 0.5 * LABEL_CHAR_PX * b.text.chars().count() as f64;
+                    assert!(b.x - hb >= a.x + ha, "{a:?} and {b:?} overlap");
+                }
+            }
+        }
     }
 }

@@ -55,8 +55,9 @@ pub struct ModeRow {
     /// Q of the wall loss (surface-resistance perturbation).
     #[serde(serialize_with = "finite_or_null")]
     pub q_walls: f64,
-    /// External Q of each port (port order).
-    #[serde(serialize_with = "finite_list")]
+    /// External Q of each port (port order). Written as `q_ext` in JSON, the same name
+    /// as the CSV columns `q_ext_<port>` (one name per quantity in every document).
+    #[serde(rename = "q_ext", serialize_with = "finite_list")]
     pub q_ports: Vec<f64>,
     /// Coupling κ = Q0/Q_ext of each port (other ports counted as losses).
     #[serde(serialize_with = "finite_list")]
@@ -100,6 +101,17 @@ pub fn combine_q(parts: &[f64]) -> f64 {
     }
 }
 
+impl From<&antinode_solver::post::band::WeylEstimate> for WeylEstimate {
+    fn from(w: &antinode_solver::post::band::WeylEstimate) -> Self {
+        Self {
+            modes: w.modes,
+            formula: w.formula.into(),
+            volume_m3: w.volume_m3,
+            source: w.source.into(),
+        }
+    }
+}
+
 /// Weyl's-law estimate of the number of modes in a band
 /// (`antinode_solver::post::band::WeylEstimate`, for the documents).
 #[derive(Clone, Debug, Serialize)]
@@ -137,8 +149,13 @@ pub struct BandSummary {
     /// (modes more damped may lie outside the search disc; null when incomplete).
     pub complete_above_q: Option<f64>,
     pub weyl_estimate: WeylEstimate,
+    /// Weyl's leading term with the loads counted as air (null for an empty cavity).
+    pub weyl_estimate_air_only: Option<WeylEstimate>,
     pub distinct_frequencies: usize,
+    /// Relative tolerance the distinct frequencies were grouped with.
     pub group_tolerance_relative: f64,
+    /// Where that tolerance comes from.
+    pub group_tolerance_basis: String,
     /// Mean spacing between adjacent distinct frequencies in the band, MHz (None with
     /// fewer than two).
     pub mean_spacing_mhz: Option<f64>,

@@ -3,7 +3,8 @@
 
 use super::json::ModesDoc;
 use crate::units;
-use antinode_solver::post::band::GROUP_TOLERANCE;
+use antinode_solver::modes::SPURIOUS_DIVERGENCE;
+use antinode_solver::post::warnings::{q_check_verdict, Q_CHECK_AGREES, RESIDUAL_SUSPECT};
 
 /// A quality factor for the table: `∞` when infinite, 3 significant figures otherwise.
 pub fn q_text(q: f64) -> String {
@@ -53,34 +54,63 @@ pub fn print(doc: &ModesDoc) {
 fn print_frequencies(doc: &ModesDoc) {
     println!("Frequencies and checks");
     println!(
-        "{:>5}  {:>12}  {:>9}  {:>9}  {:>9}  {:>9}  {:>7}  {:>10}",
-        "mode", "f (GHz)", "Δf (MHz)", "f″ (MHz)", "residual", "div", "in band", "Q check"
+        "{:>5}  {:>12}  {:>9}  {:>9}  {:>10}  {:>9}  {:>7}  {:>10}  {:<11}",
+        "mode",
+        "f (GHz)",
+        "Δf (MHz)",
+        "f″ (MHz)",
+        "residual",
+        "div",
+        "in band",
+        "Q check",
+        "verdict"
     );
+    let has_ports = !doc.ports.is_empty();
     for r in &doc.modes {
         let check = match r.q_check_relative {
             Some(c) if c.is_finite() => format!("{c:+.1e}"),
             Some(_) => "fails".into(),
             None => "—".into(),
         };
+        let residual = format!(
+            "{:.2e}{}",
+            r.residual,
+            if r.residual > RESIDUAL_SUSPECT {
+                "!"
+            } else {
+                " "
+            }
+        );
         println!(
-            "{:>5}  {:>12.6}  {:>+9.3}  {:>9.4}  {:>9.2e}  {:>9.1e}  {:>7}  {:>10}",
+            "{:>5}  {:>12.6}  {:>+9.3}  {:>9.4}  {:>10}  {:>9.1e}  {:>7}  {:>10}  {:<11}",
             r.index,
             r.frequency_ghz,
             r.delta_mhz,
             r.frequency_imag_ghz * 1e3,
-            r.residual,
+            residual,
             r.divergence,
             if r.in_band { "yes" } else { "-" },
-            check
+            check,
+            q_check_verdict(r.q_check_relative, has_ports)
         );
     }
     println!(
         "  Δf: from the target; f″ = Im f (decay rate/2π); residual ‖Kx − λMx‖/(‖K‖‖x‖ + \
-         |λ|‖M‖‖x‖); div: ‖GᵀMx‖/‖Mx‖"
+         |λ|‖M‖‖x‖): converged pairs read ≲ 1e-9, ! marks one above {RESIDUAL_SUSPECT:.0e} \
+         (suspect); div: ‖GᵀMx‖/‖Mx‖, true modes read ≲ 1e-10, fields above \
+         {SPURIOUS_DIVERGENCE:.0e} are dropped as gradients"
     );
     println!(
         "  Q check (consistency, not a result): Q from the complex eigenvalue, Re f/(2 Im f), \
-         against power balance 1/Q = 1/Q_d + Σ 1/Q_ext, as Q_eig/Q_bal − 1"
+         against power balance 1/Q = 1/Q_d + Σ 1/Q_ext, as Q_eig/Q_bal − 1; verdict ok \
+         within ±{:.0} % (our own threshold){}",
+        100.0 * Q_CHECK_AGREES,
+        if has_ports {
+            "; \"β at target\": the balance uses the port β at the target, re-run with \
+             --target at the mode to compare"
+        } else {
+            "; \"disagrees\": the load's loss and the eigenvalue do not match, refine the load"
+        }
     );
     if !doc.ports.is_empty() {
         println!(
@@ -173,6 +203,11 @@ fn print_band(doc: &ModesDoc) {
         b.band_ghz[0], b.band_ghz[1], b.band_from
     );
     match (b.complete, b.complete_above_q) {
+        (true, None) => println!(
+            "  modes found in band: {} (complete: no lossy load and no port, so every mode is \
+             real and the search reached both band edges)",
+            b.modes_in_band
+        ),
         (true, Some(q)) => println!(
             "  modes found in band: {} (complete for modes with Q from loads and ports ≥ {:.0}; more strongly damped ones may be missing)",
             b.modes_in_band, q
@@ -189,10 +224,34 @@ fn print_band(doc: &ModesDoc) {
         units::volume(b.weyl_estimate.volume_m3),
         b.weyl_estimate.source
     );
+    if let Some(air) = &b.weyl_estimate_air_only {
+        println!(
+            "  Weyl's-law estimate, loads counted as air: {:.1} modes (V = {}; the optical-volume \
+             figure above also counts the loads' own internal resonances, heavily damped in \
+             water and not found near the real axis: compare the listing with this one)",
+            air.modes,
+            units::volume(air.volume_m3)
+        );
+    }
     println!(
-        "  distinct frequencies: {} (modes within a relative {:.0e} counted as one)",
-        b.distinct_frequencies, GROUP_TOLERANCE
+        "  distinct frequencies: {} (modes within a relative {:.1e} counted as one: {})",
+        b.distinct_frequencies, b.group_tolerance_relative, b.group_tolerance_basis
     );
+    match doc.accuracy.expected_relative_error {
+        Some(e) => println!(
+            "  expected accuracy: ~{e:.1e} relative (±{:.2} MHz at the target) at order {} with \
+             {:.1} elements per local wavelength ({}; estimate from the empty-box benchmark, \
+             README Accuracy)",
+            e * doc.target_ghz * 1e3,
+            doc.order,
+            doc.accuracy.elements_per_wavelength,
+            doc.accuracy.coarsest_region
+        ),
+        None => println!(
+            "  expected accuracy: no benchmark for order {} ({:.1} elements per local wavelength)",
+            doc.order, doc.accuracy.elements_per_wavelength
+        ),
+    }
     match b.mean_spacing_mhz {
         Some(s) => println!("  mean spacing between distinct frequencies: {s:.2} MHz"),
         None => println!("  mean spacing: needs two distinct frequencies in the band"),
