@@ -284,7 +284,7 @@ impl Ctx<'_> {
                     },
                     None => Err(GeometryError::UnknownMetal {
                         at: self.at(w.span()),
-                        name: name.clone(),
+                        name: super::names::escaped(name),
                         known: quoted_list(&metals),
                     }),
                 }
