@@ -92,6 +92,19 @@ fn folded_mesh_is_refused() {
 }
 
 #[test]
+fn hanging_node_is_refused() {
+    let text = std::fs::read_to_string(dir().join("cube_hanging.msh")).unwrap();
+    refused(
+        import_file("cube_hanging.msh"),
+        Some(line_of(&text, "0.5 0 0")),
+        &[
+            "node 6 lies on the boundary triangle of nodes 1 3 2",
+            "hanging node",
+        ],
+    );
+}
+
+#[test]
 fn truncated_file_names_the_last_line() {
     let text = base();
     for cut in ["$Elements", "4 1 3 7 8", "$EndNodes"] {

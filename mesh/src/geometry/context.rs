@@ -1,6 +1,7 @@
 //! The parsing context: byte spans to file lines, and the typed errors that name file,
 //! line, entry and value.
 
+use super::names::escaped;
 use super::raw::{LooseFile, LooseNamed};
 use crate::error::{GeometryError, Item, Location};
 use std::ops::Range;
@@ -53,7 +54,7 @@ impl Ctx<'_> {
                 line: span.map(|s| self.line_of(s.start)),
             }),
             item,
-            message: with_hint(e.message().trim()),
+            message: escaped(&with_hint(e.message().trim())),
         }
     }
 
@@ -61,7 +62,7 @@ impl Ctx<'_> {
     pub(super) fn item_containing(&self, offset: usize) -> Option<Item> {
         let loose: LooseFile = toml::from_str(self.text).ok()?;
         let name_of = |n: &LooseNamed| match &n.name {
-            Some(toml::Value::String(s)) => Some(s.clone()),
+            Some(toml::Value::String(s)) => Some(escaped(s)),
             _ => None,
         };
         for l in &loose.load {
@@ -90,7 +91,7 @@ impl Ctx<'_> {
             at: self.at(span),
             item: item.clone(),
             key: key.to_string(),
-            value: value.to_string(),
+            value: escaped(&value.to_string()),
             allowed: allowed.to_string(),
         }
     }

@@ -223,7 +223,7 @@ impl Ctx<'_> {
                     return Err(GeometryError::UnknownMaterial {
                         at: self.at(m.span()),
                         load: load_name,
-                        name: name.clone(),
+                        name: super::names::escaped(name),
                         known: quoted_list(&dielectrics),
                     })
                 }

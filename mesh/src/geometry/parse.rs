@@ -284,7 +284,7 @@ impl Ctx<'_> {
                     },
                     None => Err(GeometryError::UnknownMetal {
                         at: self.at(w.span()),
-                        name: name.clone(),
+                        name: super::names::escaped(name),
                         known: quoted_list(&metals),
                     }),
                 }
@@ -340,12 +340,8 @@ impl Ctx<'_> {
         }
     }
 
-    pub(super) fn port(
-        &self,
-        rp: &Spanned<RawPort>,
-        index: usize,
-        cavity: &CavityShape,
-    ) -> Res<Port> {
+    /// The port's name as given (trimmed, checked) or "port<N>" by position.
+    fn port_name(&self, rp: &Spanned<RawPort>, index: usize) -> Res<String> {
         let p = rp.get_ref();
         let name = match &p.name {
             Some(n) if n.get_ref().trim().is_empty() => {
@@ -370,6 +366,17 @@ impl Ctx<'_> {
                 allowed,
             ));
         }
+        Ok(name)
+    }
+
+    pub(super) fn port(
+        &self,
+        rp: &Spanned<RawPort>,
+        index: usize,
+        cavity: &CavityShape,
+    ) -> Res<Port> {
+        let p = rp.get_ref();
+        let name = self.port_name(rp, index)?;
         let item = Item::Port(name.clone());
         let wall_name = p.wall.get_ref().trim();
         let (shape_name, allowed) = match cavity {

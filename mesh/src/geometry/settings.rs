@@ -176,8 +176,8 @@ impl Ctx<'_> {
                 if !targets.contains(&t) {
                     return Err(GeometryError::UnknownGroupTarget {
                         at: self.at(target.span()),
-                        group: group.clone(),
-                        target: t.to_string(),
+                        group: super::names::escaped(group),
+                        target: super::names::escaped(t),
                         allowed,
                     });
                 }

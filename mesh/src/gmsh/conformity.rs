@@ -11,6 +11,11 @@
 //!    mesh folds over itself. This is what an inverted element (a node moved across its
 //!    opposite face) shows as; the node order within a tetrahedron is free, since the
 //!    solver uses |volume|.
+//! 3. No boundary node lies on a boundary triangle it is not a corner of (within the
+//!    tolerance of 1.): where one side of a face is split differently from the other (a
+//!    hanging node) or two surfaces touch, the faces on both sides are left unshared and
+//!    become boundary, one lying on the other. A hash grid with cells of twice the mean
+//!    boundary edge holds the triangles.
 
 use super::groups::Builder;
 use super::ImportError;
@@ -30,7 +35,72 @@ impl Builder<'_> {
         old_of_new: &[u32],
     ) -> Result<(), ImportError> {
         self.check_coincident_nodes(mesh, old_of_new)?;
-        self.check_folds(mesh, faces)
+        self.check_folds(mesh, faces)?;
+        self.check_hanging_nodes(mesh, old_of_new)
+    }
+
+    /// Check 3: no boundary node lies on a boundary triangle it is not a corner of.
+    fn check_hanging_nodes(&self, mesh: &TetMesh, old_of_new: &[u32]) -> Result<(), ImportError> {
+        let (lo, hi) = bounding_box(&mesh.nodes);
+        let extent = (0..3).map(|i| hi[i] - lo[i]).fold(0.0, f64::max);
+        let tol = COINCIDENT_RELATIVE * extent;
+        let p = |n: u32| mesh.nodes[n as usize];
+        let edges: f64 = mesh
+            .boundary
+            .iter()
+            .map(|t| {
+                (0..3)
+                    .map(|k| norm(sub(p(t[k]), p(t[(k + 1) % 3]))))
+                    .sum::<f64>()
+            })
+            .sum();
+        let h = 2.0 * edges / (3 * mesh.boundary.len()).max(1) as f64;
+        if !(h > 0.0 && h.is_finite() && tol > 0.0) {
+            return Ok(());
+        }
+        let cell =
+            |x: [f64; 3]| -> [i64; 3] { std::array::from_fn(|i| ((x[i] - lo[i]) / h) as i64) };
+        let mut grid: HashMap<[i64; 3], Vec<u32>> = HashMap::new();
+        for (f, t) in mesh.boundary.iter().enumerate() {
+            let (a, b) = bounding_box(&t.map(p));
+            let (ca, cb) = (cell(a.map(|x| x - tol)), cell(b.map(|x| x + tol)));
+            for i in ca[0]..=cb[0] {
+                for j in ca[1]..=cb[1] {
+                    for k in ca[2]..=cb[2] {
+                        grid.entry([i, j, k]).or_default().push(f as u32);
+                    }
+                }
+            }
+        }
+        let mut on_boundary = vec![false; mesh.nodes.len()];
+        mesh.boundary
+            .iter()
+            .flatten()
+            .for_each(|&n| on_boundary[n as usize] = true);
+        for (n, _) in on_boundary.iter().enumerate().filter(|(_, &b)| b) {
+            let v = mesh.nodes[n];
+            for &f in grid.get(&cell(v)).map(Vec::as_slice).unwrap_or(&[]) {
+                let t = mesh.boundary[f as usize];
+                if !t.contains(&(n as u32)) && on_triangle(v, t.map(p), tol) {
+                    let tags = |m: u32| self.raw.node_tags[old_of_new[m as usize] as usize];
+                    let old = old_of_new[n] as usize;
+                    return Err(self.line_err(
+                        self.raw.node_lines[old] as usize,
+                        format!(
+                            "node {} lies on the boundary triangle of nodes {} {} {} without \
+                             being one of its corners: the mesh is not conforming there (a \
+                             hanging node, or a crack); mesh the volumes together so that \
+                             neighbouring tetrahedra share whole faces",
+                            self.raw.node_tags[old],
+                            tags(t[0]),
+                            tags(t[1]),
+                            tags(t[2])
+                        ),
+                    ));
+                }
+            }
+        }
+        Ok(())
     }
 
     fn check_coincident_nodes(
@@ -125,6 +195,25 @@ impl Builder<'_> {
         }
         Ok(())
     }
+}
+
+fn norm(a: [f64; 3]) -> f64 {
+    dot(a, a).sqrt()
+}
+
+/// Whether `v` lies on triangle `t` (its plane within `tol`, inside or on its edges).
+fn on_triangle(v: [f64; 3], t: [[f64; 3]; 3], tol: f64) -> bool {
+    let n = cross(sub(t[1], t[0]), sub(t[2], t[0]));
+    let area2 = norm(n);
+    if area2 == 0.0 || dot(n, sub(v, t[0])).abs() > tol * area2 {
+        return false;
+    }
+    // Each edge's sub-triangle with v has the orientation of n, or v is off the triangle
+    // (by more than tol times that edge's length).
+    (0..3).all(|k| {
+        let (a, b) = (t[k], t[(k + 1) % 3]);
+        dot(cross(sub(b, a), sub(v, a)), n) >= -tol * norm(sub(b, a)) * area2
+    })
 }
 
 /// Smallest and largest coordinates of `nodes`.

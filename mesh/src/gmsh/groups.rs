@@ -2,6 +2,7 @@
 
 use super::parse::RawMsh;
 use super::ImportError;
+use crate::geometry::names::escaped;
 use crate::geometry::MeshImport;
 use std::collections::{BTreeSet, HashMap};
 use std::path::Path;
@@ -25,7 +26,7 @@ impl Builder<'_> {
     pub(super) fn mesh_err(&self, message: String) -> ImportError {
         ImportError::Mesh {
             path: self.path.to_path_buf(),
-            message,
+            message: escaped(&message),
         }
     }
 
@@ -33,7 +34,7 @@ impl Builder<'_> {
         ImportError::Syntax {
             path: self.path.to_path_buf(),
             line: line.max(1),
-            message,
+            message: escaped(&message),
         }
     }
 

@@ -3,6 +3,7 @@
 
 use super::lexer::{Lexer, Token};
 use super::ImportError;
+use crate::geometry::names::escaped;
 use std::collections::{BTreeMap, HashMap};
 use std::path::Path;
 
@@ -94,7 +95,7 @@ impl<'a> Parser<'a> {
         ImportError::Syntax {
             path: self.path.to_path_buf(),
             line: line.max(1),
-            message: message.into(),
+            message: escaped(&message.into()),
         }
     }
 
