@@ -71,6 +71,13 @@ fn geometries_dir() -> PathBuf {
 
 // ----- examples and defaults -------------------------------------------------------------
 
+/// A sweep file names a base geometry at the top level; a geometry file has `[cavity]`.
+fn is_sweep_file(path: &std::path::Path) -> bool {
+    let text = std::fs::read_to_string(path).expect("example readable");
+    let doc: toml::Table = text.parse().expect("example is TOML");
+    doc.contains_key("geometry")
+}
+
 #[test]
 fn every_example_parses() {
     let mut n = 0;
@@ -78,6 +85,23 @@ fn every_example_parses() {
     for entry in dir {
         let path = entry.expect("dir entry").path();
         if path.extension().is_some_and(|e| e == "toml") {
+            if is_sweep_file(&path) {
+                // A sweep example: every variant it expands to must be a valid geometry.
+                let sweep = antinode_mesh::sweep::SweepFile::from_file(&path)
+                    .unwrap_or_else(|e| panic!("{} does not parse: {e}", path.display()));
+                let title = sweep.title.clone().unwrap_or_default();
+                assert!(
+                    title.contains("Invented demo"),
+                    "{}: title must say it is an invented demo scenario",
+                    path.display()
+                );
+                for v in sweep.variants(|k| path.with_extension(format!("variant{k}.toml"))) {
+                    if let Err(e) = v.geometry {
+                        panic!("{} variant {}: {e}", path.display(), v.index);
+                    }
+                }
+                continue;
+            }
             let g = Geometry::from_file(&path)
                 .unwrap_or_else(|e| panic!("{} does not parse: {e}", path.display()));
             assert!(
