@@ -1,38 +1,13 @@
 //! Smoke tests of the `antinode` binary as a user runs it.
 
-use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+mod common;
+use common::{antinode, example, scratch, text};
 
-fn antinode(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_antinode"))
-        .args(args)
-        .output()
-        .expect("the antinode binary runs")
-}
-
-/// A fresh, empty scratch folder for one test (removed by the test when it passes).
-fn scratch(name: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("antinode-cli-{}-{name}", std::process::id()));
-    let _ = std::fs::remove_dir_all(&dir);
-    std::fs::create_dir_all(&dir).expect("scratch folder");
-    dir
-}
-
-fn example(name: &str) -> String {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("../geometries")
-        .join(name)
-        .display()
-        .to_string()
-}
-
-fn text(b: &[u8]) -> String {
-    String::from_utf8_lossy(b).into_owned()
-}
+use std::path::Path;
 
 #[test]
 fn mesh_writes_volume_and_boundary_files() {
-    let dir = scratch("mesh");
+    let dir = scratch("cli", "mesh");
     let out = dir.join("out");
     let o = antinode(&[
         "mesh",
@@ -51,7 +26,7 @@ fn mesh_writes_volume_and_boundary_files() {
 
 #[test]
 fn bad_input_fails_with_a_message_and_writes_nothing() {
-    let dir = scratch("bad");
+    let dir = scratch("cli", "bad");
     let geom = dir.join("bad.toml");
     std::fs::write(
         &geom,
@@ -79,7 +54,7 @@ fn bad_input_fails_with_a_message_and_writes_nothing() {
 /// 1843 unknowns: 2.911763 GHz, −0.06 %); allowed 0.5 %.
 #[test]
 fn modes_of_a_small_box_match_te101() {
-    let dir = scratch("modes");
+    let dir = scratch("cli", "modes");
     let geom = dir.join("box.toml");
     std::fs::write(
         &geom,
@@ -165,7 +140,7 @@ fn finite_positive(v: &serde_json::Value, what: &str) -> f64 {
 /// and the field files hold the complex field and the heating density.
 #[test]
 fn fed_lossy_box_reports_q_and_power() {
-    let dir = scratch("fed");
+    let dir = scratch("cli", "fed");
     let doc = modes_json(
         &dir,
         r#"title = "Test geometry (invented): fed copper box with a lossy block"
@@ -251,7 +226,7 @@ count = 2
 /// (Re f/(2 Im f) = 1/tan δ up to O(tan² δ)). Allowed: 1 %.
 #[test]
 fn filled_lossy_box_has_q_of_one_over_tan_delta() {
-    let dir = scratch("filled");
+    let dir = scratch("cli", "filled");
     let doc = modes_json(
         &dir,
         r#"title = "Test geometry (invented): PEC box filled with a lossy dielectric"
@@ -315,7 +290,7 @@ target = 2.6
 
 #[test]
 fn drive_writes_the_response_files() {
-    let dir = scratch("drive");
+    let dir = scratch("cli", "drive");
     let geom = dir.join("fed.toml");
     std::fs::write(&geom, FED_BLOCK).expect("geometry");
     let out = dir.join("out");
@@ -400,7 +375,7 @@ fn drive_writes_the_response_files() {
 
 #[test]
 fn drive_needs_a_port() {
-    let dir = scratch("drive-noport");
+    let dir = scratch("cli", "drive-noport");
     let geom = dir.join("closed.toml");
     std::fs::write(
         &geom,

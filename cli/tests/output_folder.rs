@@ -1,37 +1,14 @@
 //! One run owns its output folder; the memory plan before meshing; plan-only and option
 //! checks. Each test runs the binary as a user does.
 
+mod common;
+use common::{antinode, example, scratch, text};
+
 use std::collections::BTreeMap;
 use std::io::{BufRead, BufReader};
-use std::path::{Path, PathBuf};
-use std::process::{Command, Output, Stdio};
+use std::path::Path;
+use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};
-
-fn antinode(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_antinode"))
-        .args(args)
-        .output()
-        .expect("the antinode binary runs")
-}
-
-fn scratch(name: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("antinode-out-{}-{name}", std::process::id()));
-    let _ = std::fs::remove_dir_all(&dir);
-    std::fs::create_dir_all(&dir).expect("scratch folder");
-    dir
-}
-
-fn example(name: &str) -> String {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("../geometries")
-        .join(name)
-        .display()
-        .to_string()
-}
-
-fn text(b: &[u8]) -> String {
-    String::from_utf8_lossy(b).into_owned()
-}
 
 /// Small invented test cavity: empty 100 × 80 × 60 mm PEC box, order 1, coarse.
 fn small_box(dir: &Path) -> String {
@@ -71,7 +48,7 @@ fn leftovers(parent: &Path, keep: &[&str]) -> Vec<String> {
 
 #[test]
 fn a_smaller_rerun_leaves_no_stale_mode_files() {
-    let dir = scratch("stale");
+    let dir = scratch("out", "stale");
     let geom = small_box(&dir);
     let out = dir.join("out");
     let o_str = out.to_str().unwrap();
@@ -111,7 +88,7 @@ fn a_smaller_rerun_leaves_no_stale_mode_files() {
 
 #[test]
 fn a_folder_with_foreign_files_or_a_file_is_refused_before_meshing() {
-    let dir = scratch("foreign");
+    let dir = scratch("out", "foreign");
     let geom = small_box(&dir);
     let out = dir.join("notes");
     std::fs::create_dir_all(&out).unwrap();
@@ -146,7 +123,7 @@ fn a_folder_with_foreign_files_or_a_file_is_refused_before_meshing() {
 
 #[test]
 fn sigint_during_the_solve_leaves_the_previous_folder_byte_identical() {
-    let dir = scratch("sigint");
+    let dir = scratch("out", "sigint");
     let geom = small_box(&dir);
     let out = dir.join("out");
     let o_str = out.to_str().unwrap();
@@ -185,7 +162,7 @@ fn sigint_during_the_solve_leaves_the_previous_folder_byte_identical() {
 fn memory_plan_refuses_before_meshing() {
     // Empty 300 × 300 × 200 mm box at order 2 with 1.7 mm elements: the mesher's
     // estimate is ~2.6e7 tetrahedra, ~1.6e8 unknowns: far beyond any machine this runs on.
-    let dir = scratch("memory");
+    let dir = scratch("out", "memory");
     let out = dir.join("out");
     let t0 = Instant::now();
     let o = antinode(&[
@@ -226,7 +203,7 @@ fn memory_plan_refuses_before_meshing() {
 
 #[test]
 fn count_above_the_problem_size_has_its_own_message() {
-    let dir = scratch("count");
+    let dir = scratch("out", "count");
     let geom = small_box(&dir);
     let out = dir.join("out");
     let o = antinode(&[
@@ -252,7 +229,7 @@ fn count_above_the_problem_size_has_its_own_message() {
 
 #[test]
 fn plan_only_meshes_counts_and_writes_nothing() {
-    let dir = scratch("plan");
+    let dir = scratch("out", "plan");
     let out = dir.join("out");
     let o = antinode(&[
         "modes",
@@ -275,7 +252,7 @@ fn plan_only_meshes_counts_and_writes_nothing() {
 
 #[test]
 fn mesh_takes_the_mesh_options() {
-    let dir = scratch("meshopts");
+    let dir = scratch("out", "meshopts");
     let geom = small_box(&dir);
     let out = dir.join("out");
     let o = antinode(&[

@@ -1,9 +1,12 @@
 //! `antinode sweep` as a user runs it: tables, rejected variants, the geometry each
 //! variant ran, and resuming after a killed run.
 
+mod common;
+use common::{antinode, text};
+
 use std::os::unix::process::CommandExt;
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output, Stdio};
+use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};
 
 const BASE: &str = r#"
@@ -21,10 +24,9 @@ target = 1.3
 count = 4
 "#;
 
-fn scratch(name: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("antinode-sweep-{}-{name}", std::process::id()));
-    let _ = std::fs::remove_dir_all(&dir);
-    std::fs::create_dir_all(&dir).expect("scratch folder");
+/// A scratch folder holding the base geometry.
+fn scratch_with_base(name: &str) -> PathBuf {
+    let dir = common::scratch("sweep", name);
     std::fs::write(dir.join("base.toml"), BASE).unwrap();
     dir
 }
@@ -42,20 +44,9 @@ fn sweep_file(dir: &Path, heights: &str) -> PathBuf {
     p
 }
 
-fn antinode(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_antinode"))
-        .args(args)
-        .output()
-        .expect("the antinode binary runs")
-}
-
-fn text(b: &[u8]) -> String {
-    String::from_utf8_lossy(b).into_owned()
-}
-
 #[test]
 fn sweep_writes_tables_and_runs_the_valid_variants() {
-    let dir = scratch("tables");
+    let dir = scratch_with_base("tables");
     let s = sweep_file(&dir, "[110.0, 120.0, -5.0, 130.0]");
     let out = dir.join("out");
     let o = antinode(&[
@@ -110,7 +101,7 @@ fn sweep_writes_tables_and_runs_the_valid_variants() {
 
 #[test]
 fn resume_after_a_killed_run_gives_the_same_tables() {
-    let dir = scratch("resume");
+    let dir = scratch_with_base("resume");
     let s = sweep_file(&dir, "[100.0, 105.0, 110.0, 115.0, 120.0, 125.0]");
     let s = s.to_str().unwrap();
     let whole = dir.join("whole");

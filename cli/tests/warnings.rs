@@ -1,14 +1,10 @@
 //! Warnings a first-time user needs (issue: a box given in metres meshed to 6 tetrahedra
 //! and reported an 834 GHz mode with no word said).
 
-use std::process::Command;
+mod common;
+use common::scratch;
 
-fn scratch(name: &str) -> std::path::PathBuf {
-    let dir = std::env::temp_dir().join(format!("antinode-warn-{}-{name}", std::process::id()));
-    let _ = std::fs::remove_dir_all(&dir);
-    std::fs::create_dir_all(&dir).expect("scratch folder");
-    dir
-}
+use std::process::Command;
 
 /// The 300 × 300 × 200 mm box written in metres: its lowest mode is 706.6 GHz (Pozar
 /// 4th ed. eq. 6.40 for a 0.3 mm box), far above 2.45 GHz. The run still completes
@@ -16,7 +12,7 @@ fn scratch(name: &str) -> std::path::PathBuf {
 /// modes.json.
 #[test]
 fn box_in_metres_warns_with_the_unit_hint() {
-    let dir = scratch("metres");
+    let dir = scratch("warn", "metres");
     let geom = dir.join("metres.toml");
     std::fs::write(
         &geom,

@@ -16,11 +16,11 @@
 //! `flock /tmp/antinode-heavy.lock`.
 
 use antinode_mesh::structured::{grid_mesh, GridLines};
-use antinode_mesh::{BoundaryTag, RegionInfo, TetMesh};
-use antinode_solver::fem::port::PortFrame;
+use antinode_mesh::{RegionInfo, TetMesh};
 use antinode_solver::linalg::factor::FactorKind;
 use antinode_solver::modes::operator::ComplexForm;
 use antinode_solver::{solve_modes, ModeSettings, NedelecOrder, RegionMaterial};
+use antinode_tests::port_wall;
 use std::process::Command;
 use std::time::Instant;
 
@@ -43,14 +43,7 @@ fn mesh(n: [usize; 3], lossy_fed: bool) -> TetMesh {
         Some(u32::from(lossy_fed && c[2] < SLAB))
     });
     if lossy_fed {
-        for (f, tag) in mesh.boundary.iter().zip(mesh.boundary_tag.iter_mut()) {
-            let c = f.map(|v| mesh.nodes[v as usize]);
-            let m: [f64; 3] = std::array::from_fn(|k| (c[0][k] + c[1][k] + c[2][k]) / 3.0);
-            let on_wall = (m[0] - SIZE[0]).abs() < 1e-9;
-            if on_wall && m[1] > Y[0] && m[1] < Y[1] && m[2] > Z[0] && m[2] < Z[1] {
-                *tag = BoundaryTag::Port(0);
-            }
-        }
+        port_wall::tag_x_wall_port(&mut mesh, SIZE[0], Y, Z, 0);
     }
     mesh
 }
@@ -77,14 +70,7 @@ fn run_case(kind: &str, n: [usize; 3]) {
         mu_r: 1.0,
     };
     if lossy_fed {
-        s.ports = vec![PortFrame {
-            center: [SIZE[0], 0.5 * (Y[0] + Y[1]), 0.5 * (Z[0] + Z[1])],
-            u: [0.0, 1.0, 0.0],
-            v: [0.0, 0.0, 1.0],
-            n: [1.0, 0.0, 0.0],
-            width: Y[1] - Y[0],
-            height: Z[1] - Z[0],
-        }];
+        s.ports = vec![port_wall::x_wall_frame(SIZE[0], Y, Z)];
     }
     if kind == "realform" {
         s.complex_form = ComplexForm::RealForm(FactorKind::Lblt);

@@ -3,6 +3,7 @@
 //! feed of `tests/losses_port.rs`), optionally a second aperture on the y = 0 wall, and a
 //! lossy block on the floor (εr = 4 − 0.4j: tan δ = 0.1). Invented test case.
 
+use crate::port_wall;
 use antinode_mesh::structured::{grid_mesh, GridLines};
 use antinode_mesh::{BoundaryTag, RegionInfo, TetMesh};
 use antinode_solver::fem::port::PortFrame;
@@ -45,14 +46,7 @@ pub fn fed_box(r: usize, two_ports: bool) -> (TetMesh, Vec<PortFrame>) {
             *tag = BoundaryTag::Port(1);
         }
     }
-    let mut frames = vec![PortFrame {
-        center: [SIZE[0], 0.5 * (Y[0] + Y[1]), 0.5 * (Z[0] + Z[1])],
-        u: [0.0, 1.0, 0.0],
-        v: [0.0, 0.0, 1.0],
-        n: [1.0, 0.0, 0.0],
-        width: Y[1] - Y[0],
-        height: Z[1] - Z[0],
-    }];
+    let mut frames = vec![port_wall::x_wall_frame(SIZE[0], Y, Z)];
     if two_ports {
         frames.push(PortFrame {
             center: [0.5 * (X2[0] + X2[1]), 0.0, 0.5 * (Z[0] + Z[1])],

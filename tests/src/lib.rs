@@ -7,6 +7,7 @@
 pub mod driven_cavity;
 pub mod driven_guide;
 pub mod layered_guide;
+pub mod port_wall;
 
 use antinode_mesh::structured::{grid_mesh, GridLines};
 use antinode_mesh::{RegionInfo, TetMesh};

@@ -13,11 +13,11 @@
 //! orders over the operators' agreement for round-off amplified through the restarts).
 
 use antinode_mesh::structured::{grid_mesh, GridLines};
-use antinode_mesh::{BoundaryTag, RegionInfo, TetMesh};
-use antinode_solver::fem::port::PortFrame;
+use antinode_mesh::{RegionInfo, TetMesh};
 use antinode_solver::linalg::factor::FactorKind;
 use antinode_solver::modes::operator::ComplexForm;
 use antinode_solver::{solve_modes, Mode, ModeSettings, NedelecOrder, RegionMaterial};
+use antinode_tests::port_wall;
 use std::time::Instant;
 
 const SIZE: [f64; 3] = [0.2, 0.15, 0.12];
@@ -33,14 +33,7 @@ fn fed_lossy_mesh() -> TetMesh {
         },
     ];
     let mut mesh = grid_mesh(&grid, regions, |c| Some(u32::from(c[2] < 0.02)));
-    for (f, tag) in mesh.boundary.iter().zip(mesh.boundary_tag.iter_mut()) {
-        let c = f.map(|v| mesh.nodes[v as usize]);
-        let m: [f64; 3] = std::array::from_fn(|k| (c[0][k] + c[1][k] + c[2][k]) / 3.0);
-        if (m[0] - SIZE[0]).abs() < 1e-9 && m[1] > Y[0] && m[1] < Y[1] && m[2] > Z[0] && m[2] < Z[1]
-        {
-            *tag = BoundaryTag::Port(0);
-        }
-    }
+    port_wall::tag_x_wall_port(&mut mesh, SIZE[0], Y, Z, 0);
     mesh
 }
 
@@ -58,14 +51,7 @@ fn solve(form: ComplexForm) -> (Vec<Mode>, Figures) {
     let mut s = ModeSettings::new(2.45e9);
     s.order = NedelecOrder::Two;
     s.count = 8;
-    s.ports = vec![PortFrame {
-        center: [SIZE[0], 0.5 * (Y[0] + Y[1]), 0.5 * (Z[0] + Z[1])],
-        u: [0.0, 1.0, 0.0],
-        v: [0.0, 0.0, 1.0],
-        n: [1.0, 0.0, 0.0],
-        width: Y[1] - Y[0],
-        height: Z[1] - Z[0],
-    }];
+    s.ports = vec![port_wall::x_wall_frame(SIZE[0], Y, Z)];
     s.complex_form = form;
     let t = Instant::now();
     let set = solve_modes(&mesh, &[RegionMaterial::VACUUM, slab], &s, &mut |_| {}).expect("solve");

@@ -22,12 +22,13 @@
 //! synthetic integrals fed to `losses::mode_q`.
 
 use antinode_mesh::structured::{grid_mesh, GridLines};
-use antinode_mesh::{BoundaryTag, RegionInfo, TetMesh};
+use antinode_mesh::{RegionInfo, TetMesh};
 use antinode_solver::constants::{C0, MU0};
 use antinode_solver::fem::port::PortFrame;
 use antinode_solver::post::losses::{mode_q, surface_resistance, ModeIntegrals, PortPower};
 use antinode_solver::{solve_modes, Mode, ModeSettings};
 use antinode_solver::{NedelecOrder, RegionMaterial};
+use antinode_tests::port_wall;
 use std::f64::consts::PI;
 use std::time::Instant;
 
@@ -40,26 +41,12 @@ const Z: [f64; 2] = [0.04, 0.08];
 fn fed_mesh(cells: [usize; 3]) -> TetMesh {
     let grid = GridLines::uniform([0.0; 3], SIZE, cells);
     let mut mesh = grid_mesh(&grid, vec![RegionInfo { name: "air".into() }], |_| Some(0));
-    for (f, tag) in mesh.boundary.iter().zip(mesh.boundary_tag.iter_mut()) {
-        let c = f.map(|v| mesh.nodes[v as usize]);
-        let m: [f64; 3] = std::array::from_fn(|k| (c[0][k] + c[1][k] + c[2][k]) / 3.0);
-        if (m[0] - SIZE[0]).abs() < 1e-9 && m[1] > Y[0] && m[1] < Y[1] && m[2] > Z[0] && m[2] < Z[1]
-        {
-            *tag = BoundaryTag::Port(0);
-        }
-    }
+    port_wall::tag_x_wall_port(&mut mesh, SIZE[0], Y, Z, 0);
     mesh
 }
 
 fn frame() -> PortFrame {
-    PortFrame {
-        center: [SIZE[0], 0.5 * (Y[0] + Y[1]), 0.5 * (Z[0] + Z[1])],
-        u: [0.0, 1.0, 0.0],
-        v: [0.0, 0.0, 1.0],
-        n: [1.0, 0.0, 0.0],
-        width: Y[1] - Y[0],
-        height: Z[1] - Z[0],
-    }
+    port_wall::x_wall_frame(SIZE[0], Y, Z)
 }
 
 fn solve(mesh: &TetMesh, order: NedelecOrder, target_hz: f64, count: usize) -> (Vec<Mode>, f64) {

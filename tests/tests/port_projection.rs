@@ -13,9 +13,10 @@
 //! ≈ 4 rather than 2p is expected there; not asserted.)
 
 use antinode_mesh::structured::{grid_mesh, GridLines};
-use antinode_mesh::{BoundaryTag, RegionInfo};
-use antinode_solver::fem::port::{port_constraint, PortFrame};
+use antinode_mesh::RegionInfo;
+use antinode_solver::fem::port::port_constraint;
 use antinode_solver::{NedelecOrder, Space};
+use antinode_tests::port_wall;
 
 const SIZE: [f64; 3] = [0.2, 0.15, 0.12];
 // Aperture on x = a: y ∈ [37.5, 112.5] mm, z ∈ [40, 80] mm, on grid lines of both grids.
@@ -25,22 +26,8 @@ const Z: [f64; 2] = [0.04, 0.08];
 fn defect(order: NedelecOrder, cells: [usize; 3]) -> f64 {
     let grid = GridLines::uniform([0.0; 3], SIZE, cells);
     let mut mesh = grid_mesh(&grid, vec![RegionInfo { name: "air".into() }], |_| Some(0));
-    for (f, tag) in mesh.boundary.iter().zip(mesh.boundary_tag.iter_mut()) {
-        let c = f.map(|v| mesh.nodes[v as usize]);
-        let m: [f64; 3] = std::array::from_fn(|k| (c[0][k] + c[1][k] + c[2][k]) / 3.0);
-        if (m[0] - SIZE[0]).abs() < 1e-9 && m[1] > Y[0] && m[1] < Y[1] && m[2] > Z[0] && m[2] < Z[1]
-        {
-            *tag = BoundaryTag::Port(0);
-        }
-    }
-    let frame = PortFrame {
-        center: [SIZE[0], 0.5 * (Y[0] + Y[1]), 0.5 * (Z[0] + Z[1])],
-        u: [0.0, 1.0, 0.0],
-        v: [0.0, 0.0, 1.0],
-        n: [1.0, 0.0, 0.0],
-        width: Y[1] - Y[0],
-        height: Z[1] - Z[0],
-    };
+    port_wall::tag_x_wall_port(&mut mesh, SIZE[0], Y, Z, 0);
+    let frame = port_wall::x_wall_frame(SIZE[0], Y, Z);
     let space = Space::with_ports(&mesh, order, 1);
     let c = port_constraint(&space, &[frame]);
     let exact = 0.5 * frame.width * frame.height;
