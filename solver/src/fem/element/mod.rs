@@ -2,10 +2,10 @@
 //!
 //! The local functions (6, 20 and 45; hierarchical, each tied to an edge, a face or the
 //! interior) are listed and justified in [`basis`]. Every function is stored as a sum of
-//! terms c·λ^α ∇λm and its curl as a sum of terms c·λ^β (∇λl × ∇λm) ([`terms`]), so
+//! terms c·λ^α ∇λm and its curl as a sum of terms c·λ^β (∇λl × ∇λm) (module `terms`), so
 //! element matrices are exact integrals of barycentric monomials (see
 //! [`crate::fem::barycentric`]) contracted with the element's geometric factors
-//! ∇λp·∇λq and (∇λl×∇λm)·(∇λr×∇λs); face matrices and loads are in [`face`].
+//! ∇λp·∇λq and (∇λl×∇λm)·(∇λr×∇λs); face matrices and loads are in module `face`.
 //! The eigenvalue error on smooth modes is O(h^{2p}) for order p.
 //!
 //! Orientation: callers order each tetrahedron's vertices by ascending global index, so a
