@@ -45,6 +45,9 @@ enum Command {
     /// Writes DIR/mesh.vtu (tetrahedra with cell data "region": 0 = air, i = load i, and
     /// "quality": normalised radius ratio, 1 = regular) and DIR/boundary.vtu (wall and port
     /// triangles with cell data "tag": 0 = metal wall, i = port i). Coordinates in metres.
+    // Negative numbers reach our own range checks (a plain message) instead of being
+    // read as unknown options by the parser.
+    #[command(allow_negative_numbers = true)]
     Mesh(commands::mesh::MeshArgs),
     /// Find the resonant modes near the target frequency (or every mode in a band).
     ///
@@ -57,6 +60,9 @@ enum Command {
     /// frequencies where the feed couples well). Writes DIR/modes.json, DIR/modes.csv,
     /// DIR/spectrum.svg and, unless --no-fields, one DIR/mode_NNN.vtu per mode (E, H and
     /// heating density for 1 J of stored energy) with a DIR/modes.pvd collection.
+    // Negative numbers reach our own range checks (a plain message) instead of being
+    // read as unknown options by the parser.
+    #[command(allow_negative_numbers = true)]
     Modes(commands::modes::ModesArgs),
     /// Feed the cavity through its ports: S-parameters over the band, where the forward
     /// power goes, and the heating map with its uniformity at the field frequencies.
@@ -68,14 +74,20 @@ enum Command {
     /// without them port 1 is fed with --power and the others are matched and idle.
     /// Writes DIR/response.json, response.csv, `response.s<N>p` (Touchstone 1.1),
     /// response.svg, `heating_<f>GHz.vtu` per field frequency and heating.pvd.
-    #[command(after_long_help = SAFETY)]
+    #[command(after_long_help = SAFETY, allow_negative_numbers = true)]
     Drive(commands::drive::DriveArgs),
     /// List the built-in materials with permittivity and loss at a frequency (metals:
     /// conductivity and surface resistance), with the source of each value.
+    // Negative numbers reach our own range checks (a plain message) instead of being
+    // read as unknown options by the parser.
+    #[command(allow_negative_numbers = true)]
     Materials(commands::materials::MaterialsArgs),
     /// Run `modes` and/or `drive` on every variant of a sweep file (parameters by dotted
     /// key into a base geometry), track the modes between neighbouring variants by their
     /// fields, and write DIR/sweep.csv, sweep.json, sweep.svg and DIR/variants/vNNN/.
+    // Negative numbers reach our own range checks (a plain message) instead of being
+    // read as unknown options by the parser.
+    #[command(allow_negative_numbers = true)]
     Sweep(commands::sweep::SweepArgs),
 }
 

@@ -280,4 +280,47 @@ fn a_negative_frequency_gets_a_clear_message() {
     assert!(!o.status.success());
     let err = text(&o.stderr);
     assert!(err.contains("must be a positive number"), "{err}");
+    // The same plain message wherever a frequency is taken, not the parser's "unexpected
+    // argument" (the geometry file is never read: the check comes first).
+    let geom = concat!(env!("CARGO_MANIFEST_DIR"), "/../geometries/fed_box.toml");
+    for args in [
+        vec!["modes", geom, "--target", "-1"],
+        vec!["modes", geom, "--band", "-1", "3"],
+        vec!["drive", geom, "--at", "-1"],
+        vec!["drive", geom, "--band", "2.4", "2.5", "--step", "-5"],
+    ] {
+        let o = antinode(&args);
+        assert!(!o.status.success(), "{args:?}");
+        let err = text(&o.stderr);
+        assert!(err.contains("must be a positive number"), "{args:?}: {err}");
+    }
+}
+
+/// Values at 0.915 GHz: raw beef from its 915 MHz table row (To et al. 1974 in Table 4
+/// of J. Food Sci. Technol. 48 (2011) 387: 56, 21), potato marked as a 2.45 GHz constant
+/// outside its source's range.
+#[test]
+fn materials_at_915_mhz_say_where_each_value_comes_from() {
+    let o = antinode(&["materials", "-f", "0.915"]);
+    assert!(o.status.success());
+    let s = text(&o.stdout);
+    let block = |name: &str| {
+        let start = s
+            .find(&format!("\n{name} "))
+            .unwrap_or_else(|| panic!("{name}: {s}"));
+        s[start + 1..]
+            .lines()
+            .take(3)
+            .collect::<Vec<_>>()
+            .join("\n")
+    };
+    let beef = block("raw beef");
+    assert!(
+        beef.contains("56.000") && beef.contains("21.0000"),
+        "{beef}"
+    );
+    assert!(!beef.contains("outside the source's range"), "{beef}");
+    let potato = block("potato");
+    assert!(potato.contains("57.000"), "{potato}");
+    assert!(potato.contains("outside the source's range"), "{potato}");
 }

@@ -24,6 +24,44 @@ pub enum Dielectric {
     },
     /// Liquid water, single Debye relaxation with temperature-dependent parameters.
     WaterDebye { temperature_c: f64 },
+    /// ε′ and ε″ read from a published table at a few frequencies (one temperature),
+    /// interpolated linearly in frequency between the rows and held at the end rows
+    /// outside them ([`table_permittivity`]).
+    Tabulated { rows: Vec<TableRow> },
+}
+
+/// One row of a published permittivity table: frequency (Hz), ε′, ε″.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct TableRow {
+    pub freq_hz: f64,
+    pub eps_real: f64,
+    pub eps_imag: f64,
+}
+
+/// (ε′, ε″) at `freq_hz` from table rows sorted by frequency: linear interpolation in
+/// frequency between neighbouring rows; below the first row or above the last, that
+/// row's values (no extrapolation: a table says nothing outside its range).
+pub fn table_permittivity(rows: &[TableRow], freq_hz: f64) -> (f64, f64) {
+    let (Some(first), Some(last)) = (rows.first(), rows.last()) else {
+        return (1.0, 0.0);
+    };
+    if freq_hz.is_nan() || freq_hz <= first.freq_hz {
+        return (first.eps_real, first.eps_imag);
+    }
+    if freq_hz >= last.freq_hz {
+        return (last.eps_real, last.eps_imag);
+    }
+    for w in rows.windows(2) {
+        let (a, b) = (w[0], w[1]);
+        if freq_hz <= b.freq_hz {
+            let s = (freq_hz - a.freq_hz) / (b.freq_hz - a.freq_hz);
+            return (
+                a.eps_real + s * (b.eps_real - a.eps_real),
+                a.eps_imag + s * (b.eps_imag - a.eps_imag),
+            );
+        }
+    }
+    (last.eps_real, last.eps_imag)
 }
 
 /// Thermal properties for the first-order temperature rise of a driven solve.
@@ -60,6 +98,7 @@ impl Material {
                 conductivity,
             } => (*eps_real, eps_imag + conductivity / (omega * EPS0)),
             Dielectric::WaterDebye { temperature_c } => water_debye(*temperature_c, freq_hz),
+            Dielectric::Tabulated { rows } => table_permittivity(rows, freq_hz),
         }
     }
 
@@ -103,9 +142,10 @@ impl Material {
         .with_thermal(
             998.2,
             4182.0,
-            "ρ 998.2 kg/m³, c_p 4182 J/(kg K) (liquid water at 20 °C; CRC Handbook of \
-             Chemistry and Physics, from memory); taken constant, the load's temperature \
-             changes them by < 2 % over 0-80 °C",
+            "ρ 998.2 kg/m³, c_p 4182 J/(kg K) (liquid water at 20 °C): from memory, not \
+             verified against a table (recalled as the CRC Handbook of Chemistry and \
+             Physics); taken constant, the load's temperature changes them by < 2 % over \
+             0-80 °C",
         )
     }
 }
@@ -146,25 +186,57 @@ pub struct MaterialEntry {
     pub source: &'static str,
     /// Frequency and temperature the values hold at, and which dependence is modelled.
     pub valid_at: &'static str,
+    /// Frequency span (Hz) the source covers (one frequency: both ends equal); None
+    /// when the value holds at every frequency (vacuum, DC conductivity).
+    pub range_hz: Option<[f64; 2]>,
 }
 
-/// `valid_at` of the entries with constant values measured near 2.45 GHz.
-const AT_2_45_CONSTANT: &str = "2.45 GHz, room temperature; no frequency or temperature \
-    dependence modelled (the same values at every frequency)";
+impl MaterialEntry {
+    /// Whether `freq_hz` lies outside the frequency span the entry's source covers
+    /// (constants: more than 5 % away from their one frequency, a spread below which
+    /// the permittivity of these materials changes little; common practice, no source).
+    pub fn outside_source_range(&self, freq_hz: f64) -> bool {
+        match self.range_hz {
+            None => false,
+            Some([lo, hi]) => freq_hz < lo * 0.95 || freq_hz > hi * 1.05,
+        }
+    }
+}
+
+/// Phrase for the `valid_at` of entries whose source gives one frequency.
+const CONSTANT_NO_DEPENDENCE: &str = "no frequency or temperature dependence modelled: the \
+    same values at every frequency and temperature";
+
+/// 915 MHz and 2450 MHz rows of raw beef at +5 °C, To et al. (1974) as tabulated in
+/// Table 4 of the review cited in the entry.
+const RAW_BEEF_ROWS: [TableRow; 2] = [
+    TableRow {
+        freq_hz: 915e6,
+        eps_real: 56.0,
+        eps_imag: 21.0,
+    },
+    TableRow {
+        freq_hz: 2450e6,
+        eps_real: 52.5,
+        eps_imag: 17.5,
+    },
+];
 
 /// The built-in material list, dielectrics first, then metals.
 ///
-/// Dielectric values are constants measured near 2.45 GHz unless `valid_at` says
-/// otherwise (water has its frequency and temperature model); food values vary widely
-/// with composition and temperature.
+/// Each dielectric's `valid_at` says at which frequency and temperature its source gives
+/// it and how values at other frequencies follow: water has its model, raw beef is
+/// interpolated in its table, the others are constants (the same numbers at every
+/// frequency). `range_hz` is the frequency span the source covers. Food values vary
+/// widely with composition and temperature.
 pub fn builtin_list() -> Vec<MaterialEntry> {
     // Dielectrics are stored as ε′ and ε″ (ε″ = ε′ tan δ where the source gives tan δ).
     // Thermal values (ρ kg/m³, c_p J/(kg K)) with their own source after the dielectric
     // one.
     let diel = |name: &'static str,
-                eps_real: f64,
-                eps_imag: f64,
+                (eps_real, eps_imag, at_hz): (f64, f64, f64),
                 source: &'static str,
+                valid_at: &'static str,
                 (rho, cp, thermal): (f64, f64, &'static str)| MaterialEntry {
         name,
         kind: MaterialKind::Dielectric,
@@ -172,7 +244,8 @@ pub fn builtin_list() -> Vec<MaterialEntry> {
             Material::constant(name, eps_real, eps_imag).with_thermal(rho, cp, thermal),
         ),
         source,
-        valid_at: AT_2_45_CONSTANT,
+        valid_at,
+        range_hz: Some([at_hz, at_hz]),
     };
     let metal = |name: &'static str, conductivity: f64, source: &'static str| MaterialEntry {
         name,
@@ -180,125 +253,164 @@ pub fn builtin_list() -> Vec<MaterialEntry> {
         values: MaterialValues::Metal { conductivity },
         source,
         valid_at: "DC conductivity at 20 °C, used at every frequency (Rs = √(ωμ0/2σ))",
+        range_hz: None,
     };
+    let beef = Material {
+        name: "raw beef".to_string(),
+        dielectric: Dielectric::Tabulated {
+            rows: RAW_BEEF_ROWS.to_vec(),
+        },
+        permeability: 1.0,
+        thermal: None,
+    }
+    .with_thermal(
+        1050.0,
+        3500.0,
+        "ρ 1050 kg/m³, c_p 3500 J/(kg K) (lean raw meat): from memory, not verified \
+         against a table; varies with fat and water content",
+    );
     vec![
         MaterialEntry {
             name: "water",
             kind: MaterialKind::Dielectric,
             values: MaterialValues::Dielectric(Material::water(WATER_DEFAULT_TEMPERATURE_C)),
-            source: "single-Debye model with temperature-dependent parameters, Kaatze, \
-                     J. Chem. Eng. Data 34 (1989) 371 (coefficients from memory); checked \
-                     against the double-Debye model of Liebe, Hufford & Manabe, Int. J. \
-                     Infrared Millim. Waves 12 (1991) 659 (from memory): within 0.2 at \
-                     2.45 GHz, 20-25 °C; load key `temperature` in °C, 0-100, default 20",
-            valid_at: "any frequency (Debye relaxation) and 0-100 °C (fitted over 0-60 °C); \
-                       pure water, no ionic conduction",
+            source: "single-Debye model of Kaatze, J. Chem. Eng. Data 34 (1989) 371 \
+                     (measured range read from the paper's abstract; the temperature \
+                     fits' coefficients from memory, not verified against the paper); \
+                     checked against the double-Debye model of Liebe, Hufford & Manabe, \
+                     Int. J. Infrared Millim. Waves 12 (1991) 659 (equations read from \
+                     public transcriptions of the 1991 paper): within 1 % in ε′ and 4 % \
+                     in ε″ at 2.45 GHz, 0-40 °C; load key `temperature` in °C, 0-100, \
+                     default 20",
+            valid_at: "any frequency (Debye relaxation; Kaatze measured 1.1-57 GHz) and \
+                       the load's temperature (Kaatze measured 0-50 °C and fitted \
+                       -4.1-60 °C; 60-100 °C is an extrapolation); pure water, no ionic \
+                       conduction",
+            range_hz: Some([1.1e9, 57e9]),
         },
         diel(
             "ice",
-            3.2,
-            3.2 * 9e-4,
-            "eps' 3.2, tan d 0.0009 (ice near -12 °C, 3 GHz): von Hippel, Dielectric \
-             Materials and Applications (1954), tables; from memory",
-            (917.0, 2050.0, "ρ 917 kg/m³, c_p 2050 J/(kg K) (ice near 0 °C): CRC Handbook, from memory"),
+            (3.2, 3.2 * 9e-4, 3e9),
+            "eps' 3.2, tan d 0.0009 (ice near -12 °C, 3 GHz): from memory, not verified \
+             against a table (recalled as von Hippel, Dielectric Materials and \
+             Applications, 1954)",
+            "3 GHz, about -12 °C; no frequency or temperature dependence modelled: the \
+             same values at every frequency and temperature",
+            (917.0, 2050.0, "ρ 917 kg/m³, c_p 2050 J/(kg K) (ice near 0 °C): from memory, not verified against a table"),
         ),
-        diel(
-            "raw beef",
-            52.5,
-            17.5,
-            "eps' 52.5, eps'' 17.5 (raw beef at +5 °C, 2450 MHz): To et al. (1974), as \
-             tabulated in a review of food dielectric data, Table 4 (J. Food Sci. Technol. 48 (2011) 387, doi:10.1007/s13197-011-0263-x, \
-             read 2026-12-03; the same row gives 56 and 21 at 915 MHz); real meat \
-             varies by +-20 % with fat and water content",
-            (1050.0, 3500.0, "ρ 1050 kg/m³, c_p 3500 J/(kg K) (lean raw meat): food property tables, from memory; varies with fat and water content"),
-        ),
+        MaterialEntry {
+            name: "raw beef",
+            kind: MaterialKind::Dielectric,
+            values: MaterialValues::Dielectric(beef),
+            source: "eps' 56, eps'' 21 at 915 MHz and 52.5, 17.5 at 2450 MHz (raw beef at \
+                     +5 °C): To et al. (1974), as tabulated in Table 4 (dielectric \
+                     property data for red meat) of a review of food dielectric data, \
+                     J. Food Sci. Technol. 48 (2011) 387, doi:10.1007/s13197-011-0263-x \
+                     (read 2026-12-03); real meat varies by +-20 % with fat and water \
+                     content",
+            valid_at: "915-2450 MHz, interpolated linearly in frequency between the two \
+                       table rows, held at the end rows outside them; +5 °C only (the \
+                       table row has one temperature), no temperature dependence modelled",
+            range_hz: Some([915e6, 2450e6]),
+        },
         diel(
             "potato",
-            57.0,
-            17.0,
+            (57.0, 17.0, 2.45e9),
             "eps' 57, eps'' 17 (potato, 79 % moisture, 2.45 GHz; temperature not stated): \
              Table 1.2 of the book Introduction to Advanced Food Process Engineering (ch. 1), \
              citing Datta & Ramaswamy in Microwave Technology for Food Applications \
              (Marcel Dekker, 2001), i.e. the Datta & Anantheswaran (eds.) handbook (read \
              2026-12-03 in that secondary table; the handbook itself not seen); varies \
              with variety and moisture",
-            (1080.0, 3600.0, "ρ 1080 kg/m³, c_p 3600 J/(kg K) (raw potato): food property tables, from memory"),
+            "2.45 GHz, temperature not stated by the table; no frequency or temperature \
+             dependence modelled: the only table read gives one frequency, so the same \
+             values at every frequency and temperature",
+            (1080.0, 3600.0, "ρ 1080 kg/m³, c_p 3600 J/(kg K) (raw potato): from memory, not verified against a table"),
         ),
         diel(
             "ptfe",
-            2.08,
-            2.08 * 4e-4,
-            "eps' 2.08, tan d 0.0004 (Teflon at 10 GHz): Pozar, Microwave Engineering, \
-             4th ed., appendix table of dielectric constants and loss tangents; from memory",
-            (2200.0, 1000.0, "ρ 2200 kg/m³, c_p 1000 J/(kg K): typical data-sheet values, from memory"),
+            (2.08, 2.08 * 4e-4, 10e9),
+            "eps' 2.08, tan d 0.0004 (PTFE at 10 GHz): from memory, not verified against a \
+             table (recalled as Pozar, Microwave Engineering, 4th ed., appendix table)",
+            "10 GHz, room temperature; no frequency or temperature dependence modelled: \
+             the same values at every frequency and temperature",
+            (2200.0, 1000.0, "ρ 2200 kg/m³, c_p 1000 J/(kg K): from memory, not verified against a table"),
         ),
         diel(
             "polypropylene",
-            2.25,
-            2.25 * 5e-4,
-            "eps' 2.25, tan d 0.0005: typical data-sheet values; from memory",
-            (905.0, 1900.0, "ρ 905 kg/m³, c_p 1900 J/(kg K): typical data-sheet values, from memory"),
+            (2.25, 2.25 * 5e-4, 2.45e9),
+            "eps' 2.25, tan d 0.0005 (GHz range): from memory, not verified against a table",
+            CONSTANT_NO_DEPENDENCE,
+            (905.0, 1900.0, "ρ 905 kg/m³, c_p 1900 J/(kg K): from memory, not verified against a table"),
         ),
         diel(
             "borosilicate glass",
-            4.6,
-            4.6 * 5e-3,
-            "eps' 4.6, tan d 0.005 (borosilicate 3.3 glass, GHz range): typical \
-             data-sheet values; from memory",
-            (2230.0, 830.0, "ρ 2230 kg/m³, c_p 830 J/(kg K) (borosilicate 3.3): typical data-sheet values, from memory"),
+            (4.6, 4.6 * 5e-3, 2.45e9),
+            "eps' 4.6, tan d 0.005 (borosilicate 3.3 glass, GHz range): from memory, not \
+             verified against a table",
+            CONSTANT_NO_DEPENDENCE,
+            (2230.0, 830.0, "ρ 2230 kg/m³, c_p 830 J/(kg K) (borosilicate 3.3): from memory, not verified against a table"),
         ),
         diel(
             "soda lime glass",
-            6.0,
-            6.0 * 0.01,
-            "eps' 6.0, tan d 0.01 (soda-lime window and container glass, GHz range): \
-             from memory, not checked against a table (von Hippel, Dielectric Materials \
-             and Applications, 1954, lists soda-lime glasses with eps' about 6-7 and tan d \
-             of order 0.01 at 3 GHz, from memory); real glasses vary with composition",
-            (2500.0, 840.0, "ρ 2500 kg/m³, c_p 840 J/(kg K) (soda-lime glass): typical data-sheet values, from memory"),
+            (6.0, 6.0 * 0.01, 3e9),
+            "eps' 6.0, tan d 0.01 (soda-lime window and container glass, near 3 GHz): from \
+             memory, not verified against a table (recalled as von Hippel, Dielectric \
+             Materials and Applications, 1954, listing soda-lime glasses at eps' about \
+             6-7, tan d of order 0.01 at 3 GHz); real glasses vary with composition",
+            "about 3 GHz, room temperature; no frequency or temperature dependence \
+             modelled: the same values at every frequency and temperature",
+            (2500.0, 840.0, "ρ 2500 kg/m³, c_p 840 J/(kg K) (soda-lime glass): from memory, not verified against a table"),
         ),
         diel(
             "mica",
-            5.4,
-            5.4 * 3e-4,
-            "eps' 5.4, tan d 0.0003 (ruby muscovite mica, 3 GHz): von Hippel, Dielectric \
-             Materials and Applications (1954), tables; from memory (the waveguide cover \
-             sheet of ovens is often a mica composite with a binder, which is lossier)",
-            (2800.0, 880.0, "ρ 2800 kg/m³, c_p 880 J/(kg K) (muscovite): typical data-sheet values, from memory"),
+            (5.4, 5.4 * 3e-4, 3e9),
+            "eps' 5.4, tan d 0.0003 (ruby muscovite mica, 3 GHz): from memory, not \
+             verified against a table (recalled as von Hippel, Dielectric Materials and \
+             Applications, 1954); the waveguide cover sheet of ovens is often a mica \
+             composite with a binder, which is lossier",
+            "3 GHz, room temperature; no frequency or temperature dependence modelled: \
+             the same values at every frequency and temperature",
+            (2800.0, 880.0, "ρ 2800 kg/m³, c_p 880 J/(kg K) (muscovite): from memory, not verified against a table"),
         ),
         diel(
             "alumina",
-            9.8,
-            9.8 * 1e-4,
-            "eps' 9.8, tan d 0.0001 (99.5 % alumina at 10 GHz): Pozar, Microwave \
-             Engineering, 4th ed., appendix table of dielectric constants and loss \
-             tangents; from memory",
-            (3900.0, 880.0, "ρ 3900 kg/m³, c_p 880 J/(kg K) (99.5 % alumina): typical data-sheet values, from memory"),
+            (9.8, 9.8 * 1e-4, 10e9),
+            "eps' 9.8, tan d 0.0001 (99.5 % alumina at 10 GHz): from memory, not verified \
+             against a table (recalled as Pozar, Microwave Engineering, 4th ed., appendix \
+             table)",
+            "10 GHz, room temperature; no frequency or temperature dependence modelled: \
+             the same values at every frequency and temperature",
+            (3900.0, 880.0, "ρ 3900 kg/m³, c_p 880 J/(kg K) (99.5 % alumina): from memory, not verified against a table"),
         ),
-        diel(
-            "air",
-            1.0,
-            0.0,
-            "eps' 1, lossless: common practice, no source (dry air is about 1.0006)",
-            (1.204, 1005.0, "ρ 1.204 kg/m³, c_p 1005 J/(kg K) (dry air, 20 °C, 1 atm): CRC Handbook, from memory"),
-        ),
+        MaterialEntry {
+            range_hz: None,
+            ..diel(
+                "air",
+                (1.0, 0.0, 2.45e9),
+                "eps' 1, lossless: common practice, no source (dry air is about 1.0006)",
+                "every frequency and temperature (vacuum value)",
+                (1.204, 1005.0, "ρ 1.204 kg/m³, c_p 1005 J/(kg K) (dry air, 20 °C, 1 atm): from memory, not verified against a table"),
+            )
+        },
         metal(
             "copper",
             5.8e7,
-            "5.8e7 S/m: Pozar, Microwave Engineering, 4th ed., appendix table of \
-             conductivities lists 5.813e7 (from memory), rounded",
+            "5.8e7 S/m: from memory, not verified against a table (recalled as Pozar, \
+             Microwave Engineering, 4th ed., appendix table of conductivities, 5.813e7, \
+             rounded)",
         ),
         metal(
             "aluminium",
             3.816e7,
-            "3.816e7 S/m: Pozar, Microwave Engineering, 4th ed., appendix table of \
-             conductivities; from memory",
+            "3.816e7 S/m: from memory, not verified against a table (recalled as Pozar, \
+             Microwave Engineering, 4th ed., appendix table of conductivities)",
         ),
         metal(
             "stainless steel 304",
             1.39e6,
-            "1.39e6 S/m = 1 / (72 uOhm cm), typical data-sheet resistivity of AISI 304 \
-             at 20 °C; from memory",
+            "1.39e6 S/m = 1 / (72 uOhm cm), data-sheet resistivity of AISI 304 at 20 °C: \
+             from memory, not verified against a table",
         ),
     ]
 }
@@ -355,5 +467,78 @@ mod tests {
             Some("soda lime glass")
         );
         assert_eq!(builtin("mica").map(|e| e.name), Some("mica"));
+    }
+
+    /// Raw beef against the rows it was read from: To et al. (1974) in Table 4 of
+    /// J. Food Sci. Technol. 48 (2011) 387 (915 MHz: 56, 21; 2450 MHz: 52.5, 17.5, at
+    /// +5 °C). At the rows the values are the table's (exact: they are stored as read);
+    /// between them linear interpolation, e.g. at 1682.5 MHz (midpoint) 54.25, 19.25
+    /// (worked here); outside, the end rows.
+    #[test]
+    fn raw_beef_follows_its_table() {
+        let Some(MaterialEntry {
+            values: MaterialValues::Dielectric(m),
+            ..
+        }) = builtin("raw beef")
+        else {
+            panic!("raw beef is a built-in dielectric");
+        };
+        let close =
+            |a: (f64, f64), b: (f64, f64)| (a.0 - b.0).abs() < 1e-12 && (a.1 - b.1).abs() < 1e-12;
+        assert!(close(m.permittivity(915e6), (56.0, 21.0)));
+        assert!(close(m.permittivity(2450e6), (52.5, 17.5)));
+        assert!(close(m.permittivity(1682.5e6), (54.25, 19.25)));
+        assert!(close(m.permittivity(100e6), (56.0, 21.0)));
+        assert!(close(m.permittivity(10e9), (52.5, 17.5)));
+    }
+
+    /// Every entry's strings say where the numbers come from: a citation read, or "from
+    /// memory, not verified against a table", or "common practice, no source"; and a
+    /// constant says that it has no frequency or temperature dependence.
+    #[test]
+    fn every_source_is_read_or_marked_from_memory() {
+        for e in builtin_list() {
+            let read = e.source.contains("read ") || e.source.contains("read from");
+            let memory = e
+                .source
+                .contains("from memory, not verified against a table");
+            let practice = e.source.contains("common practice, no source");
+            assert!(read || memory || practice, "{}: {}", e.name, e.source);
+            if let MaterialValues::Dielectric(m) = &e.values {
+                if matches!(m.dielectric, Dielectric::Constant { .. }) && e.name != "air" {
+                    assert!(
+                        e.valid_at
+                            .contains("no frequency or temperature dependence"),
+                        "{}: {}",
+                        e.name,
+                        e.valid_at
+                    );
+                }
+                let th = m
+                    .thermal
+                    .as_ref()
+                    .expect("every built-in dielectric has ρ, c_p");
+                assert!(
+                    th.source
+                        .contains("from memory, not verified against a table")
+                        || th.source.contains("read "),
+                    "{}: {}",
+                    e.name,
+                    th.source
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn source_range_flags_far_frequencies() {
+        let potato = builtin("potato").unwrap();
+        assert!(!potato.outside_source_range(2.45e9));
+        assert!(potato.outside_source_range(0.915e9));
+        let beef = builtin("raw beef").unwrap();
+        assert!(!beef.outside_source_range(0.915e9));
+        assert!(!beef.outside_source_range(2.45e9));
+        assert!(beef.outside_source_range(5.8e9));
+        assert!(!builtin("copper").unwrap().outside_source_range(10e9));
     }
 }

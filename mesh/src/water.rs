@@ -3,15 +3,25 @@
 //! double-Debye model of Liebe, Hufford & Manabe. Convention εr = ε′ − jε″ (e^{jωt}).
 //!
 //! * Single Debye, ε = ε_∞ + (ε_s − ε_∞)/(1 + jωτ), with Kaatze's temperature fits
-//!   (U. Kaatze, J. Chem. Eng. Data 34 (1989) 371; coefficients from memory):
+//!   (U. Kaatze, J. Chem. Eng. Data 34 (1989) 371):
 //!   ε_s(T) = 10^(1.94404 − 1.991·10⁻³ T), ε_∞(T) = 5.77 − 2.74·10⁻² T,
 //!   τ(T) = 3.745·10⁻¹⁵ (1 + 7·10⁻⁵ (T − 27.5)²) exp(2295.7/(T + 273.15)) s, T in °C.
-//!   Kaatze's measurements cover 0–60 °C (from memory); above that it is an extrapolation.
+//!   The coefficients are from memory, not verified against the paper (the same numbers
+//!   appear in independent public transcriptions, which is no check of the paper). The
+//!   ranges are read from the paper's abstract: measurements at nine temperatures
+//!   0–50 °C and 1.1–57 GHz, analysed with literature data over −4.1–60 °C; above 60 °C
+//!   the fits are an extrapolation.
 //! * Double Debye (H. J. Liebe, G. A. Hufford, T. Manabe, Int. J. Infrared Millim.
-//!   Waves 12 (1991) 659; coefficients from memory), with θ = 300/(T + 273.15) and f in GHz:
+//!   Waves 12 (1991) 659), with θ = 300/(T + 273.15) and f in GHz:
 //!   ε(f) = ε0 − f[(ε0 − ε1)/(f + jγ1) + (ε1 − ε2)/(f + jγ2)],
-//!   ε0 = 77.66 + 103.3(θ − 1), ε1 = 0.0671 ε0, ε2 = 3.52,
+//!   ε0 = 77.66 + 103.3(θ − 1), ε1 = 0.0671 ε0, ε2 = 3.52 − 7.52(θ − 1),
 //!   γ1 = 20.20 − 146.4(θ − 1) + 316(θ − 1)² GHz, γ2 = 39.8 γ1.
+//!   Read from public transcriptions of the 1991 paper (C. Mätzler's `epswater.m`,
+//!   2002, and the Fortran `eps_swd_l91.f90` of P. W. Rosenkranz's version, both with
+//!   the variable 1 − 300/T = −(θ − 1), whence the signs above); the paper itself not
+//!   seen. Its 1993 revision (the MPM93 model) drops the temperature term of ε2
+//!   (ε2 = 3.52) and rounds 146.4 to 146. Range stated in Mätzler's transcription:
+//!   1–1000 GHz, 270–310 K, extended to 250–330 K (−23–57 °C).
 //!   Its second relaxation lies above 600 GHz, so at 2.45 GHz the two models differ only
 //!   by their fits: ~0.1 in ε′ and ε″ at 20–25 °C (see the tests).
 //!
@@ -70,7 +80,8 @@ pub fn water_double_debye(temperature_c: f64, freq_hz: f64) -> (f64, f64) {
     let theta = 300.0 / (clamp_temperature(temperature_c) + 273.15) - 1.0;
     let e0 = 77.66 + 103.3 * theta;
     let e1 = 0.0671 * e0;
-    let e2 = 3.52;
+    // The 1991 paper's ε2 (the 1993 revision keeps only the constant 3.52).
+    let e2 = 3.52 - 7.52 * theta;
     let g1 = 20.20 - 146.4 * theta + 316.0 * theta * theta;
     let g2 = 39.8 * g1;
     let f = freq_hz * 1e-9;

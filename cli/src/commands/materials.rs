@@ -9,13 +9,7 @@ use clap::Args;
 #[derive(Args)]
 pub struct MaterialsArgs {
     /// Frequency at which to evaluate permittivity and surface resistance, GHz.
-    #[arg(
-        short = 'f',
-        long,
-        value_name = "GHZ",
-        default_value_t = 2.45,
-        allow_negative_numbers = true
-    )]
+    #[arg(short = 'f', long, value_name = "GHZ", default_value_t = 2.45)]
     pub frequency: f64,
     /// Temperature of water, °C (0–100); other entries are fixed room-temperature values.
     #[arg(short = 't', long, value_name = "C", default_value_t = material::WATER_DEFAULT_TEMPERATURE_C)]
@@ -38,17 +32,19 @@ pub fn run(args: &MaterialsArgs) -> Result<()> {
     }
     let f_hz = ghz_to_hz(args.frequency);
     println!(
-        "Built-in materials, evaluated at {} GHz where an entry has a frequency model (water at \
-         {} °C; the metals' Rs); the other entries are constants that hold at the frequency and \
-         temperature their \"valid at\" line names, whatever --frequency says. Load \
-         materials use ε′, ε″ (εr = ε′ − jε″); wall metals use conductivity σ and surface \
-         resistance Rs = √(ωμ0/2σ).",
+        "Built-in materials at {} GHz (water at {} °C). Each dielectric's \"how\" line says \
+         how its value at this frequency follows from its source: water from its Debye \
+         model, raw beef by linear interpolation in its table, the others are constants \
+         printed as their source gives them at the frequency it names, whatever \
+         --frequency says; \"outside the source's range\" marks a value the source does \
+         not give at this frequency. Load materials use ε′, ε″ (εr = ε′ − jε″); wall \
+         metals use conductivity σ and surface resistance Rs = √(ωμ0/2σ).",
         args.frequency, args.temperature
     );
     println!();
     println!(
-        "{:<22} {:>10} {:>10} {:>10}   source",
-        "dielectric", "ε′", "ε″", "tan δ"
+        "{:<22} {:>10} {:>10} {:>10}   at {} GHz",
+        "dielectric", "ε′", "ε″", "tan δ", args.frequency
     );
     let list = material::builtin_list();
     for e in &list {
@@ -60,11 +56,14 @@ pub fn run(args: &MaterialsArgs) -> Result<()> {
             };
             let (er, ei) = m.permittivity(f_hz);
             let tand = if er != 0.0 { ei / er } else { f64::NAN };
-            println!(
-                "{:<22} {:>10.3} {:>10.4} {:>10.5}   {}",
-                e.name, er, ei, tand, e.source
-            );
-            println!("{:<22} {:>32}   valid at: {}", "", "", e.valid_at);
+            let range = if e.outside_source_range(f_hz) {
+                " — outside the source's range at this frequency"
+            } else {
+                ""
+            };
+            println!("{:<22} {:>10.3} {:>10.4} {:>10.5}", e.name, er, ei, tand);
+            println!("{:<22} how: {}{range}", "", e.valid_at);
+            println!("{:<22} source: {}", "", e.source);
         }
     }
     println!();
