@@ -27,16 +27,17 @@ fn cyl(center: [f64; 2], radius: f64, bottom: f64, height: f64) -> LoadShape {
     }
 }
 
-/// A 200 × 200 × 120 mm box with an ε′ = 9 cylinder r = 40 mm, h = 30 mm (invented).
-fn rod_in_box(per_wavelength: f64) -> Geometry {
+/// A 200 × 200 × 120 mm box with a cylinder of radius `radius`, height 30 mm and
+/// permittivity `eps` standing at z = 20 mm (invented), air size capped at 30 mm.
+fn rod_in_box(per_wavelength: f64, radius: f64, eps: f64) -> Geometry {
     let mut g = geometry(
         CavityShape::Box {
             size: [200.0, 200.0, 120.0],
         },
         vec![(
             "rod",
-            cyl([100.0, 100.0], 40.0, 20.0, 30.0),
-            dielectric("ceramic-like", 9.0),
+            cyl([100.0, 100.0], radius, 20.0, 30.0),
+            dielectric("ceramic-like", eps),
         )],
     );
     g.mesh.per_wavelength = per_wavelength;
@@ -51,53 +52,80 @@ fn cylinder_volume_converges_at_second_order() {
     // it (its points are inside the circular segment of a chord ≤ 2s, whose sagitta is
     // (2s)²/(8R), analytic), and the polyhedron lies inside the convex cylinder, so
     // 0 ≤ πR²H − V ≤ 2πRH · s²/(2R) = πH s²: second order in the surface edge length s.
-    let (r, height) = (40.0 * MM, 30.0 * MM);
-    let exact = PI * r * r * height;
-    let mut rows = Vec::new();
-    for pw in [3.0, 6.0, 12.0] {
-        let g = rod_in_box(pw);
-        let c = mesh_geometry_curved(&g).expect("graded mesh");
-        let vols = check_invariants(&g, &c.mesh);
-        let s = c
-            .surface_faces
-            .iter()
-            .filter(|(_, k)| c.surfaces[*k as usize].owner == SurfaceOwner::Load(0))
-            .flat_map(|(f, _)| [(f[0], f[1]), (f[0], f[2]), (f[1], f[2])])
-            .map(|(a, b)| {
-                let d = sub(c.mesh.nodes[a as usize], c.mesh.nodes[b as usize]);
-                dot(d, d).sqrt()
-            })
-            .fold(0.0, f64::max);
-        let err = exact - vols[1];
-        let q = quality_report(&c.mesh);
-        println!(
-            "per_wavelength {pw}: {} tets, rod volume error {:.3e} (relative {:.2e}), \
-             longest side edge {:.2} mm, bound {:.3e}; {} projections undone; dihedral \
-             {:.1}°..{:.1}°, {} poor",
-            c.mesh.tets.len(),
-            err,
-            err / exact,
-            s / MM,
-            PI * height * s * s,
-            c.projections_undone,
-            q.min_dihedral_deg,
-            q.max_dihedral_deg,
-            q.poor_count
-        );
+    // Per chord of length s the missing segment has area s³/(12R) (analytic), N = 2πR/s
+    // chords miss πs²/6: halving the mesh size (doubling per_wavelength) must divide the
+    // deficit by about 4, an observed rate of 2.
+    // Cases: an ε′ = 9 rod (R = 40 mm) and a small, finer ε′ = 20 one (R = 28 mm, the
+    // radius of geometries/cup_compact.toml's water) whose coarse start (30 mm) puts its
+    // circle at the chord-deviation bound, where 12-sided starts left the water of
+    // cup_compact 3 % short.
+    let height = 30.0 * MM;
+    for (radius, eps) in [(40.0, 9.0), (28.0, 20.0)] {
+        let r = radius * MM;
+        let exact = PI * r * r * height;
+        let mut rows = Vec::new();
+        for pw in [3.0, 6.0, 12.0] {
+            let g = rod_in_box(pw, radius, eps);
+            let c = mesh_geometry_curved(&g).expect("graded mesh");
+            let vols = check_invariants(&g, &c.mesh);
+            let lengths: Vec<f64> = c
+                .surface_faces
+                .iter()
+                .filter(|(_, k)| c.surfaces[*k as usize].owner == SurfaceOwner::Load(0))
+                .flat_map(|(f, _)| [(f[0], f[1]), (f[0], f[2]), (f[1], f[2])])
+                .map(|(a, b)| {
+                    let d = sub(c.mesh.nodes[a as usize], c.mesh.nodes[b as usize]);
+                    dot(d, d).sqrt()
+                })
+                .collect();
+            let s = lengths.iter().copied().fold(0.0, f64::max);
+            // The surface mesh's own size: the root mean square of its edge lengths.
+            let s_rms = (lengths.iter().map(|l| l * l).sum::<f64>() / lengths.len() as f64).sqrt();
+            let err = exact - vols[1];
+            let q = quality_report(&c.mesh);
+            println!(
+                "R {radius} mm, per_wavelength {pw}: {} tets, rod volume error {:.3e} \
+                 (relative {:.2e}), longest side edge {:.2} mm (rms {:.2} mm), bound {:.3e}; {} projections \
+                 undone; dihedral {:.1}°..{:.1}°, {} poor",
+                c.mesh.tets.len(),
+                err,
+                err / exact,
+                s / MM,
+                s_rms / MM,
+                PI * height * s * s,
+                c.projections_undone,
+                q.min_dihedral_deg,
+                q.max_dihedral_deg,
+                q.poor_count
+            );
+            assert!(
+                err >= -1e-12 * exact,
+                "volume above the cylinder's: {err:e}"
+            );
+            assert!(err <= PI * height * s * s, "deficit {err:e} above πHs²");
+            rows.push((s_rms, err));
+        }
+        let rates: Vec<f64> = rows
+            .windows(2)
+            .map(|w| (w[0].1 / w[1].1).ln() / (w[0].0 / w[1].0).ln())
+            .collect();
+        println!("R {radius} mm: observed rates {rates:.2?} (analytic 2)");
         assert!(
-            err >= -1e-12 * exact,
-            "volume above the cylinder's: {err:e}"
+            rows[1].1 < rows[0].1,
+            "R {radius} mm: error did not fall: {rows:?}"
         );
-        assert!(err <= PI * height * s * s, "deficit {err:e} above πHs²");
-        rows.push((pw, err));
-    }
-    for w in rows.windows(2) {
-        let rate = (w[0].1 / w[1].1).ln() / (w[1].0 / w[0].0).ln();
-        println!(
-            "per_wavelength {} → {}: observed rate {rate:.2} (analytic 2)",
-            w[0].0, w[1].0
+        // The finest pair must show the second order: a rate of at least 1.5, halfway
+        // between 2 and the first order a surface followed only in part gives (common
+        // practice, no source); the coarser pair is printed, not asserted (pre-asymptotic:
+        // at 3 per wavelength the start's chords are still being halved).
+        assert!(
+            rates[1] >= 1.5,
+            "R {radius} mm: observed rate {:.2} from per_wavelength 6 to 12 (relative \
+             deficits {:.2e} → {:.2e} against πR²H), analytic 2",
+            rates[1],
+            rows[1].1 / exact,
+            rows[2].1 / exact
         );
-        assert!(w[1].1 < w[0].1, "error did not fall");
     }
 }
 
@@ -300,5 +328,46 @@ fn heavy_oven_1l_figures() {
             q.poor_count,
             c.projections_undone
         );
+        // Air by distance of the centroid from the water (mm): tets and mean edge.
+        let water = g.loads[1].shape.expect("water shape");
+        let bands = [0.0, 5.0, 10.0, 20.0, 40.0, 80.0, f64::INFINITY];
+        let mut sums = vec![(0usize, 0.0); bands.len() - 1];
+        for (t, tet) in c.mesh.tets.iter().enumerate() {
+            if c.mesh.tet_region[t] != 0 {
+                continue;
+            }
+            let p = tet.map(|v| c.mesh.nodes[v as usize].map(|x| x / MM));
+            let m: [f64; 3] = std::array::from_fn(|k| 0.25 * p.iter().map(|q| q[k]).sum::<f64>());
+            let LoadShape::Cylinder {
+                center,
+                radius,
+                bottom,
+                height,
+            } = water
+            else {
+                panic!("the oven's water is a cylinder");
+            };
+            let d = ((m[0] - center[0]).hypot(m[1] - center[1]) - radius)
+                .max(0.0)
+                .hypot((bottom - m[2]).max(m[2] - bottom - height).max(0.0));
+            let b = bands.windows(2).position(|w| d < w[1]).unwrap_or(0);
+            let mut mean = 0.0;
+            for i in 0..4 {
+                for j in i + 1..4 {
+                    let e = sub(p[i], p[j]);
+                    mean += dot(e, e).sqrt() / 6.0;
+                }
+            }
+            sums[b].0 += 1;
+            sums[b].1 += mean;
+        }
+        for (k, (n, e)) in sums.iter().enumerate() {
+            println!(
+                "  air {}–{} mm from the water: {n} tets, mean edge {:.2} mm",
+                bands[k],
+                bands[k + 1],
+                e / (*n).max(1) as f64
+            );
+        }
     }
 }

@@ -12,26 +12,41 @@
 //! with h_i from the per-wavelength rule ([`super::element_sizes`]) and d the 3-D
 //! distance to load i, so sizes grow away from a load by at most GRADING per unit
 //! distance and reach the air size (h_air − h_i)/GRADING away. A tetrahedron's target is
-//! the smallest of h at its vertices and centroid; the true minimum over it is lower by
-//! at most GRADING·ρ (h is GRADING-Lipschitz, ρ the largest centroid–vertex distance),
-//! and bounding with that ρ instead refined the air around an ε′ = 9 block to 35 % more
-//! tets (measured) for no gain inside the load, where h is constant anyway. The mean
-//! edge is the measure because the extruded mesher aims at a mean edge of about h too
-//! (`mesh/tests/mesher.rs`), so both methods mean the same by "element size h". A
-//! bisection halves a tet's volume, so its mean edge falls by about 2^(−1/3); a tet is
-//! bisected only while its mean edge exceeds [`OVERSHOOT`]·h = 2^(1/3)·h, i.e. while
-//! its children would still be about h or larger. Bisecting whenever the mean edge
-//! exceeds h would leave mean edges of 0.7–0.9 h (the conformity closure cuts some tets
-//! further), about twice the tets the size asks for; with 2^(1/3) the mean edge inside
-//! a fine load averages 0.99 h (measured, `mesh/tests/graded.rs`), the extruded mesher's
-//! 1.07 h on the same load.
+//! h at its centroid. The mean edge is the measure because the extruded mesher aims at a
+//! mean edge of about h too (`mesh/tests/mesher.rs`), so both methods mean the same by
+//! "element size h", and a mean is a property of the whole tet, so it is compared with
+//! the field where the tet is, its centroid. Taking the smallest h over the vertices
+//! instead (the earlier rule) lowers the target of a tet of mean edge e by up to
+//! GRADING·0.6e (a vertex lies about 0.6 e from the centroid), a bias that compounds
+//! through the shell: on geometries/oven_1l.toml it left the air 2–3 times finer than
+//! the field at 5–40 mm from the water (mean edge 0.63 h) and 279k air tets, against
+//! 167k with the centroid (measured; `heavy_oven_1l_figures` in
+//! `mesh/tests/graded_curved.rs` prints the shell figures);
+//! inside a load, where h is constant, the two rules agree. A bisection halves a tet's
+//! volume, so its mean edge falls by about 2^(−1/3); a tet is bisected only while its
+//! mean edge exceeds [`OVERSHOOT`]·h = 2^(1/3)·h, i.e. while its children would still
+//! be about h or larger. Bisecting whenever the mean edge exceeds h would leave mean
+//! edges of 0.7–0.9 h (the conformity closure cuts some tets further), about twice the
+//! tets the size asks for; with 2^(1/3) the mean edge inside a fine load averages
+//! 0.99 h (measured, `mesh/tests/graded.rs`), the extruded mesher's 1.07 h on the same
+//! load.
+//!
+//! Grading ratio: GRADING = 0.5 ([`super::GRADING`]) lets neighbouring sizes differ by
+//! a factor of about 1.5; bisection itself cannot grade faster than its closure allows
+//! (a bisected tet forces its neighbours on the cut edge to be cut), so a steeper field
+//! would buy little (GRADING = 1 removed 7 % of the oven's air tets, measured) while
+//! giving up the smooth size change the approximation relies on.
 //!
 //! The coarse start decides the air far from the loads: there nothing is refined, and
 //! the tets are the extruded mesher's at h_air.
 //!
-//! Cylinder sides (cavity wall, cylindrical loads) are followed: new vertices on their
-//! faces go onto the true surface ([`crate::refine::surface`]), and projections that
-//! would leave a flat or inverted tet are undone after refinement.
+//! Cylinder sides (cavity wall, cylindrical loads) are followed: the start's circles
+//! keep the chord-deviation bound [`super::MIN_CIRCLE_SIDES_GRADED`] (sagitta ≤ 1/30 of
+//! the chord), new vertices on their faces go onto the true surface
+//! ([`crate::refine::surface`]), and projections that would leave a flat or inverted
+//! tet are undone after refinement. Each bisection of a side chord halves it and its
+//! sagitta/chord ratio, so the bound holds at every later size and a cylinder's volume
+//! deficit falls like the square of the side edge length (the mesh's own rate).
 
 use super::sizing::{RegionSize, SizeField};
 use super::{estimate, extruded, CurvedMesh, MesherError, MAX_TETS};
@@ -112,8 +127,7 @@ pub(super) fn graded(geom: &Geometry, sizes: &[RegionSize]) -> Result<CurvedMesh
     })
 }
 
-/// Mean edge (mm) of tetrahedron `t` and the size field sampled over it: the smallest
-/// of h at its four vertices and its centroid (mm).
+/// Mean edge (mm) of tetrahedron `t` and the size field at its centroid (mm).
 pub(crate) fn size_and_target(b: &Bisection, field: &SizeField, t: usize) -> (f64, f64) {
     let p = b.tets[t].map(|v| b.nodes[v as usize].map(|x| x * PER_M));
     let c: [f64; 3] = std::array::from_fn(|k| 0.25 * (p[0][k] + p[1][k] + p[2][k] + p[3][k]));
@@ -124,15 +138,11 @@ pub(crate) fn size_and_target(b: &Bisection, field: &SizeField, t: usize) -> (f6
             sum += len(p[i], p[j]);
         }
     }
-    let h = p
-        .iter()
-        .map(|&q| field.h_3d_ball(q, 0.0))
-        .fold(field.h_3d_ball(c, 0.0), f64::min);
-    (sum / 6.0, h)
+    (sum / 6.0, field.h_3d_ball(c, 0.0))
 }
 
-/// The tetrahedra whose mean edge exceeds the size field's bound over them, where that
-/// bound is below the air's size (the coarse start is accepted as it is elsewhere).
+/// The tetrahedra whose mean edge exceeds [`OVERSHOOT`] times the size field at their
+/// centroid, where that is below the air's size (the coarse start is accepted as it is elsewhere).
 fn too_large(b: &Bisection, field: &SizeField) -> Vec<u32> {
     (0..b.tets.len())
         .into_par_iter()

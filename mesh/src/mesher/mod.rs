@@ -34,7 +34,10 @@ pub use estimate::{estimate, MeshEstimate, ESTIMATE_MARGIN};
 pub use extrude::MAX_TETS;
 pub use graded::OVERSHOOT;
 pub use planar::MAX_2D_POINTS;
-pub use sizing::{element_sizes, RegionSize, C0_MM_PER_S, GRADING, GRADING_Z};
+pub use sizing::{
+    element_sizes, RegionSize, C0_MM_PER_S, GRADING, GRADING_Z, MIN_CIRCLE_SIDES,
+    MIN_CIRCLE_SIDES_GRADED,
+};
 
 use crate::geometry::{Geometry, MeshMethod};
 use crate::refine::{curved_surfaces, surface_faces, CurvedSurface};

@@ -15,9 +15,6 @@ use std::f64::consts::PI;
 
 pub(crate) type P2 = [f64; 2];
 
-/// Fewest sides of a circle's polygon, so that even a coarse circle stays round.
-const MIN_CIRCLE_SIDES: usize = 12;
-
 /// The cross-section constraint graph.
 #[derive(Clone, Debug)]
 pub(crate) struct Outline {
@@ -100,10 +97,9 @@ fn circle_angles(c: P2, r: f64, field: &SizeField, a0: f64) -> Vec<f64> {
         [c[0] + r * a.cos(), c[1] + r * a.sin()]
     };
     let mut t = graded_params(len, field.h_min(), |t| field.h_xy(at(t)));
-    if t.len() - 1 < MIN_CIRCLE_SIDES {
-        t = (0..=MIN_CIRCLE_SIDES)
-            .map(|k| k as f64 / MIN_CIRCLE_SIDES as f64)
-            .collect();
+    let sides = field.min_circle_sides;
+    if t.len() - 1 < sides {
+        t = (0..=sides).map(|k| k as f64 / sides as f64).collect();
     }
     t.pop();
     t.into_iter().map(|t| a0 + 2.0 * PI * t).collect()
