@@ -70,8 +70,9 @@ pub struct ModeRow {
     pub load_energy_fraction: BTreeMap<String, f64>,
     /// Bandwidth f/Q_L, MHz (0 when Q_L is infinite).
     pub bandwidth_mhz: f64,
-    /// Consistency check: Q from power balance without walls, 1/Q = 1/Q_d + Σ 1/Q_ext,
-    /// which the complex eigenvalue must reproduce (walls enter by perturbation only).
+    /// Consistency check: Q from the power balance, 1/Q = 1/Q_d + Σ 1/Q_ext (+ 1/Q_c with
+    /// impedance walls, which are part of the eigenvalue), which the complex eigenvalue
+    /// must reproduce (walls by perturbation are not in it).
     #[serde(serialize_with = "finite_or_null")]
     pub q_balance: f64,
     /// q_eigen / q_balance − 1 (null when both are infinite).

@@ -182,7 +182,13 @@ fn print_q(doc: &ModesDoc) {
     println!(
         "  BW = f/Q_L; Q_L: loaded, Q_d: loads' dielectric loss, Q_c: walls{}; ∞ = no such loss",
         match doc.wall_conductivity {
-            Some(s) => format!(" (σ = {s:.3e} S/m, surface-resistance perturbation)"),
+            Some(s) => format!(
+                " (σ = {s:.3e} S/m, {})",
+                match doc.wall_losses.as_deref() {
+                    Some("perturbation") => "surface-resistance perturbation",
+                    _ => "surface impedance in the solve",
+                }
+            ),
             None => " (PEC: no wall loss)".into(),
         }
     );

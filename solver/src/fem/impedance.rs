@@ -39,7 +39,8 @@
 //! the square of that, far below the discretisation error, where a fixed-point iteration
 //! of the nonlinear problem would need a new factorisation per mode.
 
-use super::dofmap::FIXED;
+use super::dofmap::{DofMap, FIXED};
+use super::topology::Topology;
 use super::element::NedelecTet;
 use super::port::Reduction;
 use super::tet_geometry::face_normal_area;
@@ -127,12 +128,43 @@ pub fn wall_trace_matrix(space: &Space<'_>) -> SparseMatrix {
 impl<'m> Space<'m> {
     /// The space with the metal walls' unknowns kept (their tangential field is set by
     /// the impedance term, not eliminated) and the first `n_ports` port apertures open;
-    /// faces tagged with a port beyond those stay perfectly conducting.
+    /// faces tagged with a port beyond those stay perfectly conducting. The rim of each
+    /// open aperture (edges shared by a wall face and an aperture face) stays perfectly
+    /// conducting: there the TE10 field is normal to the guide's walls or zero, and a
+    /// free rim would carry the aperture's projected field onto the neighbouring wall
+    /// faces, where 1/Rs turns it into a large spurious loss.
     pub fn with_impedance_walls(mesh: &'m TetMesh, order: NedelecOrder, n_ports: usize) -> Self {
-        Self::new(mesh, order, |tag| match tag {
-            BoundaryTag::Wall => false,
-            BoundaryTag::Port(p) => p >= n_ports,
-        })
+        let topology = Topology::new(mesh);
+        let (mut on_wall, mut on_port) =
+            (vec![false; topology.edges.len()], vec![false; topology.edges.len()]);
+        for (fi, tag) in topology.face_tag.iter().enumerate() {
+            let mark = match tag {
+                Some(BoundaryTag::Wall) => &mut on_wall,
+                Some(BoundaryTag::Port(p)) if *p < n_ports => &mut on_port,
+                _ => continue,
+            };
+            let [a, b, c] = topology.faces[fi];
+            for (p, q) in [(a, b), (a, c), (b, c)] {
+                if let Ok(e) = topology.edges.binary_search(&[p, q]) {
+                    mark[e] = true;
+                }
+            }
+        }
+        let dofs = DofMap::with_fixed_edges(
+            &topology,
+            mesh.nodes.len(),
+            order,
+            |tag| match tag {
+                BoundaryTag::Wall => false,
+                BoundaryTag::Port(p) => p >= n_ports,
+            },
+            |e| on_wall[e] && on_port[e],
+        );
+        Self {
+            mesh,
+            topology,
+            dofs,
+        }
     }
 }
 
