@@ -177,11 +177,13 @@ fn print_rows(rows: &[Row], qc: f64) {
 fn check_rows(rows: &[Row], qc: f64) {
     for r in rows {
         // The field formula ∮|E_t|²/(4Rs) is the wall's share of Im k0² on the discrete
-        // problem (solver `fem::impedance` docs); the two differ by the Q_eigen =
-        // Re f/(2 Im f) against Im λ/Re λ conversion and the dielectric–wall cross term,
-        // both O(1/Q) ≈ 1/Q_d = 4e-4 relative (Q_d = 2500 dominates).
+        // problem exactly at the target (solver `fem::impedance` docs); left are the
+        // eigenvalue's own error, relative 1e-9 (the residual bound `losses_pozar.rs`
+        // asserts) of k0², which is Q_c · 1e-9 ≈ 8e-6 of the wall part, and terms below it
+        // (Re f/(2 Im f) against Im λ/Re λ: 1/(4Q²); the target–mode offset, second order:
+        // (Δf/2f)² < 1e-8 here).
         assert!(
-            (r.qc_imp / r.qc_eig - 1.0).abs() < 1.0 / 2500.0,
+            (r.qc_imp / r.qc_eig - 1.0).abs() < 1e-9 * qc,
             "Q_c from E_t {} vs from the eigenvalue {}",
             r.qc_imp,
             r.qc_eig
@@ -234,12 +236,17 @@ fn pozar_example_6_3_impedance_convergence() {
     print_rows(&rows, qc);
     check_rows(&rows, qc);
     println!("  observed orders (perturbation, impedance):");
-    let order = |a: f64, b: f64, ha: f64, hb: f64| ((a - qc) / (b - qc)).abs().ln() / (ha / hb).ln();
+    let order =
+        |a: f64, b: f64, ha: f64, hb: f64| ((a - qc) / (b - qc)).abs().ln() / (ha / hb).ln();
     let mut last = 0.0;
     for w in rows.windows(2) {
         let pp = order(w[0].qc_pert, w[1].qc_pert, w[0].h, w[1].h);
         let pi = order(w[0].qc_imp, w[1].qc_imp, w[0].h, w[1].h);
-        println!("    h {:.2} → {:.2} mm: {pp:.2}, {pi:.2}", w[0].h * 1e3, w[1].h * 1e3);
+        println!(
+            "    h {:.2} → {:.2} mm: {pp:.2}, {pi:.2}",
+            w[0].h * 1e3,
+            w[1].h * 1e3
+        );
         last = pi;
     }
     assert!(last >= 3.0, "impedance Q_c order {last}");
@@ -352,8 +359,74 @@ fn pillbox_tm010_both_methods() {
         // tolerance of each other (same budget).
         assert!((i.q.q_walls / p.q.q_walls - 1.0).abs() <= tol);
         // Air-filled and without ports: Q_eigen is the wall Q itself (same discrete
-        // quantity, see the Example 6.3 test), to O(1/Q) ≈ 1e-4.
-        assert!((i.q_eigen / i.q.q_walls - 1.0).abs() < 1e-4 * 2.0);
+        // quantity at the target, see the Example 6.3 test); the mode lies Δf = 0.4–0.9 %
+        // from the target, so the first-order refinement leaves (Δf/2f)² (the
+        // `impedance_refined_per_mode` budget, twice it asserted) plus the eigenvalue's
+        // relative 1e-9 times Q_c.
+        let rem = ((i.frequency_hz - f_ref) / (2.0 * f_ref)).powi(2);
+        assert!((i.q_eigen / i.q.q_walls - 1.0).abs() < 2.0 * rem + 1e-9 * q_ref);
+        // Δf/f = −1/(2Q_c) up to O(1/Q_c) relative, as in the Example 6.3 test.
         assert!((2.0 * i.q.q_walls * shift + 1.0).abs() < 20.0 / q_ref);
+    }
+}
+
+/// A fed box with a lossy block (the invented test cavity of `antinode_tests::
+/// driven_cavity`, 20 mm cells) solved both ways: the port's Q_ext must not depend on
+/// the wall model beyond O(1/Q_c) and the field's change, and the two Q_c agree within
+/// the perturbation path's discretisation budget 2 · 0.06 (k h)² (`losses_cylinder.rs`;
+/// common practice, no source). The aperture rim is perfectly conducting in both (the
+/// solver's `Space::with_impedance_walls`), so a free rim cannot leak the aperture's
+/// field into the walls: without that the impedance Q_c of a strongly coupled mode fell
+/// to half.
+#[test]
+fn fed_box_both_methods() {
+    let (mesh, frames) = antinode_tests::driven_cavity::fed_box(1, false);
+    let mats = antinode_tests::driven_cavity::fed_box_materials();
+    let target = 2.5e9;
+    let run = |losses: WallLosses| {
+        let mut s = ModeSettings::new(target);
+        s.count = 4;
+        s.wall_conductivity = Some(SIGMA_CU);
+        s.wall_losses = losses;
+        s.ports = frames.clone();
+        solve_modes(&mesh, &mats, &s, &mut |_| {})
+            .expect("solve_modes")
+            .modes
+    };
+    let (pert, imp) = (run(WallLosses::Perturbation), run(WallLosses::Impedance));
+    let h = 0.02;
+    println!(
+        "fed box (invented test cavity), 20 mm cells, target {} GHz",
+        target / 1e9
+    );
+    println!(
+        "  {:>10} {:>10} {:>10} {:>10} {:>10} {:>10} {:>10}",
+        "f GHz", "Q_c pert", "Q_c imp", "rel", "tol", "Q_ext pert", "Q_ext imp"
+    );
+    for p in &pert {
+        let i = nearest(&imp, p.frequency_hz);
+        let k = 2.0 * PI * p.frequency_hz / C0;
+        let tol = 2.0 * 0.06 * (k * h).powi(2);
+        let rel = i.q.q_walls / p.q.q_walls - 1.0;
+        println!(
+            "  {:>10.6} {:>10.1} {:>10.1} {rel:>+10.2e} {tol:>10.2e} {:>10.1} {:>10.1}",
+            p.frequency_hz / 1e9,
+            p.q.q_walls,
+            i.q.q_walls,
+            p.q.q_ports[0],
+            i.q.q_ports[0]
+        );
+        assert!(
+            (i.frequency_hz / p.frequency_hz - 1.0).abs() < 1e-3,
+            "no matching mode"
+        );
+        assert!(rel.abs() <= tol, "Q_c differ by {rel}");
+        // Q_ext: the wall model changes the field by O(1/Q_c) and the wall unknowns'
+        // freedom by the discretisation error of the tangential field, bounded by the
+        // same budget.
+        if p.q.q_ports[0].is_finite() {
+            let e = i.q.q_ports[0] / p.q.q_ports[0] - 1.0;
+            assert!(e.abs() <= tol, "Q_ext differ by {e}");
+        }
     }
 }

@@ -12,11 +12,11 @@ use crate::progress::Spinner;
 use crate::units;
 use antinode_mesh::{Geometry, TetMesh};
 use antinode_solver::budget::{self, Plan};
+use antinode_solver::fem::impedance::WallLosses;
 use antinode_solver::modes::SolveStats;
 use antinode_solver::post::band::{band_figures, BandFigures, SearchFacts, ISM_BAND_HZ};
 use antinode_solver::post::warnings::{review_run, RunReview};
 use antinode_solver::problem::{region_materials, settings_from, weyl_cavity};
-use antinode_solver::fem::impedance::WallLosses;
 use antinode_solver::{
     solve_modes, ModeSet, ModeSettings, NedelecOrder, RegionMaterial, SolverError,
 };

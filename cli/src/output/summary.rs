@@ -146,7 +146,8 @@ pub struct BandSummary {
     /// True when the solve searched far enough around the target that no mode inside
     /// the band can have been missed.
     pub complete: bool,
-    /// The listing is complete for modes whose Q from loads and ports is at least this
+    /// The listing is complete for modes whose Q from loads, ports and impedance walls (the
+    /// eigenvalue's) is at least this
     /// (modes more damped may lie outside the search disc; null when incomplete).
     pub complete_above_q: Option<f64>,
     pub weyl_estimate: WeylEstimate,

@@ -215,7 +215,7 @@ fn print_band(doc: &ModesDoc) {
             b.modes_in_band
         ),
         (true, Some(q)) => println!(
-            "  modes found in band: {} (complete for modes with Q from loads and ports ≥ {:.0}; more strongly damped ones may be missing)",
+            "  modes found in band: {} (complete for modes with Q from loads, ports and impedance walls ≥ {:.0}; more strongly damped ones may be missing)",
             b.modes_in_band, q
         ),
         _ => println!(

@@ -43,11 +43,11 @@ pub use settings::{ModeSettings, Stage};
 use crate::constants::wavenumber;
 use crate::error::SolverError;
 use crate::fem::assembly::{RegionMaterial, SystemMatrices};
+use crate::fem::impedance::ImpedanceWalls;
 use crate::fem::port::{PortConstraint, PortTerms};
 use crate::fem::Space;
 use crate::linalg::eigen::{self, KrylovOperator, KrylovScalar, RitzPairs};
 use crate::post::field::{mode_fields, ModeFields};
-use crate::fem::impedance::ImpedanceWalls;
 use crate::post::losses::{
     eigen_matched_q, mode_integrals, ModeIntegrals, ModeQ, PortPower, WallLoss,
 };

@@ -376,7 +376,12 @@ pub fn eigen_matched_q(
         .filter(|x| x.is_finite())
         .sum();
     if !ports.is_empty() && q_eigen.is_finite() && inv_ext_balance > 0.0 {
-        let inv_d = inv(q.q_dielectric) + if walls.in_eigenvalue() { inv(q.q_walls) } else { 0.0 };
+        let inv_d = inv(q.q_dielectric)
+            + if walls.in_eigenvalue() {
+                inv(q.q_walls)
+            } else {
+                0.0
+            };
         let scale = (1.0 / q_eigen - inv_d) / inv_ext_balance;
         if (0.5..=2.0).contains(&scale) {
             for p in ports.iter_mut() {
