@@ -44,7 +44,7 @@ pub struct Plan {
 
 /// Count unknowns and estimate memory for `settings` on `mesh`.
 pub fn plan(mesh: &TetMesh, materials: &[RegionMaterial], settings: &ModeSettings) -> Plan {
-    let space = Space::with_ports(mesh, settings.order, settings.ports.len());
+    let space = settings.space(mesh);
     estimate(
         space.n_dofs(),
         settings.is_complex(materials),

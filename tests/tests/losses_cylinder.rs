@@ -92,6 +92,8 @@ fn solve(mesh: &TetMesh, eps_r: f64, target_hz: f64, count: usize) -> (ModeSet<'
     let mut s = ModeSettings::new(target_hz);
     s.count = count;
     s.wall_conductivity = Some(SIGMA_CU);
+    // This file checks the perturbation path (`losses_impedance.rs` the other one).
+    s.wall_losses = antinode_solver::fem::impedance::WallLosses::Perturbation;
     let mat = RegionMaterial {
         eps_real: eps_r,
         eps_imag: 0.0,

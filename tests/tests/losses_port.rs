@@ -207,6 +207,7 @@ fn reflection_limits() {
         region_e2: vec![m_real],
         // Q_c = k0² ωμ0 m′ / (Rs ∮|n×∇×E|²)
         wall_curl2: k0 * k0 * omega * MU0 * m_real / (rs * q_c),
+        wall_e2: 0.0,
     };
     let beta = 40.0;
     // Q_ext = k0² m′ / (β N|c|²)

@@ -72,6 +72,8 @@ fn solve(size: [f64; 3], n: [usize; 3], wall: Option<f64>, count: usize) -> (Vec
     s.order = NedelecOrder::Two;
     s.count = count;
     s.wall_conductivity = wall;
+    // This file checks the perturbation path (`losses_impedance.rs` the other one).
+    s.wall_losses = antinode_solver::fem::impedance::WallLosses::Perturbation;
     let t = Instant::now();
     let set = solve_modes(&mesh, &[mat], &s, &mut |_| {}).expect("solve_modes");
     (set.modes, t.elapsed().as_secs_f64())

@@ -12,6 +12,7 @@ use crate::progress::Spinner;
 use crate::units;
 use antinode_mesh::{Geometry, TetMesh};
 use antinode_solver::budget::{self, Plan};
+use antinode_solver::fem::impedance::WallLosses;
 use antinode_solver::modes::SolveStats;
 use antinode_solver::post::band::{band_figures, BandFigures, SearchFacts, ISM_BAND_HZ};
 use antinode_solver::post::warnings::{review_run, RunReview};
@@ -29,6 +30,26 @@ pub enum Format {
     Table,
     /// The modes.json document on stdout (for scripts).
     Json,
+}
+
+/// How walls of finite conductivity enter (`--wall-losses`).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum WallLossArg {
+    /// A surface-impedance wall term in the solve; Q_c from E at the wall (complex
+    /// solve even for an empty cavity; the wall Q converges like the eigenvalue).
+    Impedance,
+    /// After a solve with perfectly conducting walls, from H = ∇×E at the wall (real
+    /// solve for an empty cavity; the wall Q converges like h²).
+    Perturbation,
+}
+
+impl From<WallLossArg> for WallLosses {
+    fn from(a: WallLossArg) -> Self {
+        match a {
+            WallLossArg::Impedance => WallLosses::Impedance,
+            WallLossArg::Perturbation => WallLosses::Perturbation,
+        }
+    }
 }
 
 #[derive(Args)]
@@ -60,6 +81,9 @@ pub struct ModesArgs {
     /// Skip the per-mode field files (mode_NNN.vtu, modes.pvd).
     #[arg(long)]
     pub no_fields: bool,
+    /// How metal walls of finite conductivity enter the wall Q (PEC walls: no effect).
+    #[arg(long, value_enum, value_name = "METHOD", default_value_t = WallLossArg::Impedance)]
+    pub wall_losses: WallLossArg,
     /// What to print on stdout.
     #[arg(long, value_enum, default_value_t = Format::Table)]
     pub format: Format,
@@ -78,7 +102,8 @@ pub fn run_with(
     let mut geom = super::load_geometry(&args.geometry)?;
     let band_from = apply_overrides(args, &mut geom)?;
     // The file's order was checked by its parser; an unavailable one here came from --order.
-    let settings = settings_from(&geom).map_err(|e| anyhow!("{e} (--order)"))?;
+    let mut settings = settings_from(&geom).map_err(|e| anyhow!("{e} (--order)"))?;
+    settings.wall_losses = args.wall_losses.into();
     let order = settings.order;
 
     let mats = region_materials(&geom, settings.target_hz);
@@ -138,7 +163,8 @@ pub fn run_with(
     );
     let load_names: Vec<String> = geom.loads.iter().map(|l| l.name.clone()).collect();
     let port_names: Vec<String> = geom.ports.iter().map(|p| p.name.clone()).collect();
-    let rows = mode_rows(&set, target_ghz, &figures, &load_names);
+    let walls_in_eigen = settings.impedance_walls().is_some();
+    let rows = mode_rows(&set, target_ghz, &figures, &load_names, walls_in_eigen);
     let in_band_idx = &figures.in_band;
     let good_coupling = good_couplings(&rows, in_band_idx, &port_names);
     let q_check_max_relative = rows
@@ -157,6 +183,9 @@ pub fn run_with(
         ports: port_names.clone(),
         regions: region_infos(&mats, &load_names),
         wall_conductivity: settings.wall_conductivity,
+        wall_losses: settings
+            .wall_conductivity
+            .map(|_| settings.wall_losses.name().to_string()),
         field_scaling: if args.no_fields {
             "no field files written".into()
         } else {
@@ -314,6 +343,7 @@ fn mode_rows(
     target_ghz: f64,
     figures: &BandFigures,
     load_names: &[String],
+    walls_in_eigen: bool,
 ) -> Vec<ModeRow> {
     set.modes
         .iter()
@@ -323,7 +353,11 @@ fn mode_rows(
             let q = &m.q;
             // The power balance with the eigenvector's own port amplitudes (before the
             // solver matches them to the refined eigenvalue): an independent check.
+            // Impedance walls are part of the eigenvalue, so of the balance too.
             let mut balance = vec![q.q_dielectric];
+            if walls_in_eigen {
+                balance.push(q.q_walls);
+            }
             balance.extend_from_slice(&m.q_ports_balance);
             let q_balance = summary::combine_q(&balance);
             ModeRow {

@@ -72,6 +72,10 @@ pub struct ModesDoc {
     pub regions: Vec<RegionInfo>,
     /// Wall conductivity, S/m (None: perfect conductor, no wall loss).
     pub wall_conductivity: Option<f64>,
+    /// How the finite conductivity entered: "impedance" (a surface-impedance wall term in
+    /// the solve) or "perturbation" (after a solve with perfectly conducting walls); None
+    /// with PEC walls.
+    pub wall_losses: Option<String>,
     /// Scaling of the written fields.
     pub field_scaling: String,
     /// How infinite values are written.

@@ -70,8 +70,9 @@ pub struct ModeRow {
     pub load_energy_fraction: BTreeMap<String, f64>,
     /// Bandwidth f/Q_L, MHz (0 when Q_L is infinite).
     pub bandwidth_mhz: f64,
-    /// Consistency check: Q from power balance without walls, 1/Q = 1/Q_d + Σ 1/Q_ext,
-    /// which the complex eigenvalue must reproduce (walls enter by perturbation only).
+    /// Consistency check: Q from the power balance, 1/Q = 1/Q_d + Σ 1/Q_ext (+ 1/Q_c with
+    /// impedance walls, which are part of the eigenvalue), which the complex eigenvalue
+    /// must reproduce (walls by perturbation are not in it).
     #[serde(serialize_with = "finite_or_null")]
     pub q_balance: f64,
     /// q_eigen / q_balance − 1 (null when both are infinite).
@@ -145,7 +146,8 @@ pub struct BandSummary {
     /// True when the solve searched far enough around the target that no mode inside
     /// the band can have been missed.
     pub complete: bool,
-    /// The listing is complete for modes whose Q from loads and ports is at least this
+    /// The listing is complete for modes whose Q from loads, ports and impedance walls (the
+    /// eigenvalue's) is at least this
     /// (modes more damped may lie outside the search disc; null when incomplete).
     pub complete_above_q: Option<f64>,
     pub weyl_estimate: WeylEstimate,

@@ -182,7 +182,13 @@ fn print_q(doc: &ModesDoc) {
     println!(
         "  BW = f/Q_L; Q_L: loaded, Q_d: loads' dielectric loss, Q_c: walls{}; ∞ = no such loss",
         match doc.wall_conductivity {
-            Some(s) => format!(" (σ = {s:.3e} S/m, surface-resistance perturbation)"),
+            Some(s) => format!(
+                " (σ = {s:.3e} S/m, {})",
+                match doc.wall_losses.as_deref() {
+                    Some("perturbation") => "surface-resistance perturbation",
+                    _ => "surface impedance in the solve",
+                }
+            ),
             None => " (PEC: no wall loss)".into(),
         }
     );
@@ -209,7 +215,7 @@ fn print_band(doc: &ModesDoc) {
             b.modes_in_band
         ),
         (true, Some(q)) => println!(
-            "  modes found in band: {} (complete for modes with Q from loads and ports ≥ {:.0}; more strongly damped ones may be missing)",
+            "  modes found in band: {} (complete for modes with Q from loads, ports and impedance walls ≥ {:.0}; more strongly damped ones may be missing)",
             b.modes_in_band, q
         ),
         _ => println!(

@@ -46,6 +46,19 @@ impl DofMap {
         order: NedelecOrder,
         is_pec: impl Fn(BoundaryTag) -> bool,
     ) -> Self {
+        Self::with_fixed_edges(topo, n_nodes, order, is_pec, |_| false)
+    }
+
+    /// As [`DofMap::new`], also eliminating the unknowns of every edge `e` with
+    /// `fixed_edge(e)` (n × E = 0 along it; the rim of a port aperture in walls that are
+    /// not eliminated, [`crate::fem::impedance`]).
+    pub fn with_fixed_edges(
+        topo: &Topology,
+        n_nodes: usize,
+        order: NedelecOrder,
+        is_pec: impl Fn(BoundaryTag) -> bool,
+        fixed_edge: impl Fn(usize) -> bool,
+    ) -> Self {
         let mut edge_fixed = vec![false; topo.edges.len()];
         let mut face_fixed = vec![false; topo.faces.len()];
         let mut vertex_free = vec![true; n_nodes];
@@ -75,6 +88,9 @@ impl DofMap {
                     }
                 }
             }
+        }
+        for (e, f) in edge_fixed.iter_mut().enumerate() {
+            *f = *f || fixed_edge(e);
         }
         let (pe, pf) = (order.per_edge(), order.per_face());
         let mut next = 0u32;

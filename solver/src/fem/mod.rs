@@ -5,7 +5,7 @@
 //! element and face matrices ([`element`]), the mesh's edges and faces with global
 //! orientation ([`topology`]), the global unknowns with the PEC walls eliminated
 //! ([`dofmap`]), the global matrices K, M′, M″ ([`assembly`]) and the TE10 port
-//! apertures ([`port`]). A [`Space`] bundles the mesh with its topology and unknown
+//! apertures ([`port`]), with the surface-impedance walls beside them ([`impedance`]). A [`Space`] bundles the mesh with its topology and unknown
 //! map: it is the finite-element space every later stage (assembly, ports, field
 //! evaluation, losses) works on.
 //!
@@ -16,6 +16,7 @@ pub mod assembly;
 pub mod barycentric;
 pub mod dofmap;
 pub mod element;
+pub mod impedance;
 pub mod port;
 pub mod tet_geometry;
 pub mod topology;

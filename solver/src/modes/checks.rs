@@ -7,7 +7,9 @@
 //!   2-norm of a symmetric matrix; the ports add max_p |jβ_p| N_p to ‖K‖);
 //! * with ports, β refined per mode by first-order perturbation,
 //!   δλ = j Σ_p Δβ_p N_p c_p² / (xᵀ M x) (left eigenvector = x for a complex symmetric
-//!   pencil, c_p the aperture amplitudes), iterated to a fixed point;
+//!   pencil, c_p the aperture amplitudes), iterated to a fixed point; with impedance
+//!   walls the wall coefficient likewise, δλ += Δc xᵀW_E x / (xᵀ M x)
+//!   ([`crate::fem::impedance`]);
 //! * divergence figure ‖Gᵀ M x‖ / ‖M x‖ (G: gradients of the scalar space; zero for a
 //!   true resonance, O(1) for a gradient field): above [`SPURIOUS_DIVERGENCE`], or with
 //!   Re λ ≤ 0, the pair is dropped as spurious;
@@ -17,6 +19,7 @@
 use super::system::PortedSystem;
 use crate::constants::C0;
 use crate::fem::assembly::SystemMatrices;
+use crate::fem::impedance::ImpedanceWalls;
 use crate::fem::port::{PortFrame, PortTerms};
 use crate::fem::Space;
 use crate::linalg::eigen::RitzPairs;
@@ -192,6 +195,8 @@ pub struct CheckContext<'a> {
     pub frames: &'a [PortFrame],
     /// Port terms at the target (β at the target, N_p, the amplitude index).
     pub ports: &'a PortTerms,
+    /// Surface-impedance walls (None: PEC or walls by perturbation).
+    pub walls: Option<&'a ImpedanceWalls>,
     /// Target wavenumber k0 = √σ (m⁻¹).
     pub k_target: f64,
 }
@@ -212,8 +217,9 @@ pub fn check(mut m: RawMode, ctx: &CheckContext<'_>) -> Option<CheckedMode> {
         .collect();
     let mut xr = ctx.system.expand(std::mem::take(&mut m.re));
     let mut xi = ctx.system.expand(std::mem::take(&mut m.im));
-    if !ctx.ports.is_empty() {
-        m.lambda = refine_beta(m.lambda, full.mass_bilinear(&xr, &xi), &amp, ctx);
+    if !ctx.ports.is_empty() || ctx.walls.is_some() {
+        let xwx = ctx.walls.map(|w| w.bilinear(&xr, &xi));
+        m.lambda = refine_beta(m.lambda, full.mass_bilinear(&xr, &xi), &amp, xwx, ctx);
     }
     // Divergence: Gᵀ M x with M = M′ − jM″ on the full unknowns.
     let (yr, yi) = full.mass_times(&xr, &xi, &mut t);
@@ -249,9 +255,16 @@ pub fn check(mut m: RawMode, ctx: &CheckContext<'_>) -> Option<CheckedMode> {
     })
 }
 
-/// λ with β_p taken at the mode's own wavenumber instead of the target's: first-order
-/// perturbation δλ = j Σ_p Δβ_p N_p c_p² / (xᵀMx), iterated six times to its fixed point.
-fn refine_beta(lambda0: c64, xmx: c64, amp: &[c64], ctx: &CheckContext<'_>) -> c64 {
+/// λ with β_p (and the impedance walls' coefficient, `xwx` = xᵀW_E x) taken at the
+/// mode's own wavenumber instead of the target's: first-order perturbation
+/// δλ = (j Σ_p Δβ_p N_p c_p² + Δc xᵀW_E x) / (xᵀMx), iterated six times to its fixed point.
+fn refine_beta(
+    lambda0: c64,
+    xmx: c64,
+    amp: &[c64],
+    xwx: Option<c64>,
+    ctx: &CheckContext<'_>,
+) -> c64 {
     let mut lambda = lambda0;
     for _ in 0..6 {
         let k = lambda.sqrt().re;
@@ -259,6 +272,9 @@ fn refine_beta(lambda0: c64, xmx: c64, amp: &[c64], ctx: &CheckContext<'_>) -> c
         for (p, f) in ctx.frames.iter().enumerate() {
             let dbeta = f.beta(k) - f.beta(ctx.k_target);
             d += c64::new(0.0, 1.0) * dbeta * ctx.ports.norm[p] * amp[p] * amp[p];
+        }
+        if let (Some(w), Some(xwx)) = (ctx.walls, xwx) {
+            d += w.shift(k, xwx);
         }
         lambda = lambda0 + d / xmx;
     }

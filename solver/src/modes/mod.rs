@@ -21,6 +21,10 @@
 //!   the iteration runs on A⁻¹M with A = K + jβP − σ(M′ − jM″) factorised through its
 //!   real 2n form, in complex arithmetic with the Euclidean inner product. β is taken at
 //!   the target and refined per mode ([`checks`]).
+//! * Walls of finite conductivity as a surface impedance
+//!   ([`crate::fem::impedance`], [`ModeSettings::wall_losses`]): the term c(ω) W_E joins
+//!   K, making the problem complex even for an empty cavity; c is taken at the target and
+//!   refined per mode like β.
 //!
 //! Each returned mode carries k0² and f = c k0 / 2π, its relative residual, its
 //! divergence figure (fields above [`SPURIOUS_DIVERGENCE`] are dropped and counted),
@@ -39,11 +43,14 @@ pub use settings::{ModeSettings, Stage};
 use crate::constants::wavenumber;
 use crate::error::SolverError;
 use crate::fem::assembly::{RegionMaterial, SystemMatrices};
+use crate::fem::impedance::ImpedanceWalls;
 use crate::fem::port::{PortConstraint, PortTerms};
 use crate::fem::Space;
 use crate::linalg::eigen::{self, KrylovOperator, KrylovScalar, RitzPairs};
 use crate::post::field::{mode_fields, ModeFields};
-use crate::post::losses::{eigen_matched_q, mode_integrals, ModeIntegrals, ModeQ, PortPower};
+use crate::post::losses::{
+    eigen_matched_q, mode_integrals, ModeIntegrals, ModeQ, PortPower, WallLoss,
+};
 use antinode_mesh::TetMesh;
 use checks::{check_all, complex_raw_modes, real_raw_modes, CheckContext, RawMode, ResidualScale};
 use faer::Par;
@@ -66,8 +73,8 @@ pub struct Mode {
     pub frequency_hz: f64,
     /// Im f, Hz (decay rate / 2π).
     pub frequency_imag_hz: f64,
-    /// Q from the complex eigenvalue, Re f/(2 Im f) (loads and ports; infinite when
-    /// lossless). Wall losses are added by perturbation in `q`.
+    /// Q from the complex eigenvalue, Re f/(2 Im f) (loads, ports and impedance walls;
+    /// infinite when lossless). Walls by perturbation are added in `q` only.
     pub q_eigen: f64,
     /// Relative residual of the (linear, β at target) discrete eigenproblem.
     pub residual: f64,
@@ -155,7 +162,7 @@ pub fn solve_modes<'m>(
     settings.validate(mesh, materials)?;
     progress(Stage::Topology);
     let t0 = Instant::now();
-    let space = Space::with_ports(mesh, settings.order, settings.ports.len());
+    let space = settings.space(mesh);
     if space.n_dofs() == 0 {
         return Err(SolverError::NoUnknowns);
     }
@@ -166,7 +173,10 @@ pub fn solve_modes<'m>(
     let assembly_s = t0.elapsed().as_secs_f64();
     let search = Search::new(settings);
     let sys = system.matrices();
-    let complex = sys.is_lossy() || !settings.ports.is_empty();
+    let walls = settings.impedance_walls().map(|sigma| {
+        ImpedanceWalls::new(&space, system.reduction.as_ref(), sigma, search.k_target)
+    });
+    let complex = sys.is_lossy() || !settings.ports.is_empty() || walls.is_some();
     let ports = system.port_terms(&settings.ports, search.k_target);
     // Measured on 2 cores: the sequential supernodal kernels beat the threaded ones here,
     // and the tall-skinny dense products of the eigen iteration lose more to thread
@@ -179,9 +189,20 @@ pub fn solve_modes<'m>(
         nnz: sys.stiffness.nnz(),
     });
     let ordering = early_ordering.unwrap_or_else(|| order_matrix(&sys.stiffness));
-    let scale = ResidualScale::new(sys);
+    let mut scale = ResidualScale::new(sys);
+    if let Some(w) = &walls {
+        scale.k_norm += w.norm_at_target();
+    }
     let run = eigen_run(
-        complex, sys, &ports, &search, &ordering, settings, scale, progress,
+        complex,
+        sys,
+        &ports,
+        walls.as_ref(),
+        &search,
+        &ordering,
+        settings,
+        scale,
+        progress,
     )?;
 
     progress(Stage::Checks);
@@ -191,6 +212,7 @@ pub fn solve_modes<'m>(
         system: &system,
         frames: &settings.ports,
         ports: &ports,
+        walls: walls.as_ref(),
         k_target: search.k_target,
     };
     let checked = check_all(run.raw, &ctx);
@@ -275,6 +297,7 @@ fn eigen_run(
     complex: bool,
     sys: &SystemMatrices,
     ports: &PortTerms,
+    walls: Option<&ImpedanceWalls>,
     search: &Search,
     ordering: &TimedOrdering,
     settings: &ModeSettings,
@@ -299,7 +322,10 @@ fn eigen_run(
         return Ok(run);
     }
     let build = || {
-        let parts = shifted_complex(sys, search.sigma, ports);
+        let mut parts = shifted_complex(sys, search.sigma, ports);
+        if let Some(w) = walls {
+            parts = w.add_to(parts);
+        }
         let factor = ComplexFactor::new(parts, settings.complex_form, perm, refine)?;
         let nnz = factor.factor_nnz();
         let (m_re, m_im) = (&sys.mass_real, sys.mass_imag.as_ref());
@@ -341,7 +367,11 @@ fn with_losses(
                 c.freq.re,
                 &integrals,
                 materials,
-                settings.wall_conductivity,
+                WallLoss::of(
+                    settings.wall_conductivity,
+                    settings.wall_losses,
+                    settings.target_hz,
+                ),
                 &mut powers,
                 c.q_eigen,
             );

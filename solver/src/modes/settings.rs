@@ -3,8 +3,9 @@
 
 use crate::error::SolverError;
 use crate::fem::assembly::RegionMaterial;
+use crate::fem::impedance::WallLosses;
 use crate::fem::port::PortFrame;
-use crate::fem::NedelecOrder;
+use crate::fem::{NedelecOrder, Space};
 use crate::linalg::eigen::{EigenOptions, EigenProgress};
 use crate::linalg::factor::FactorKind;
 use crate::modes::operator::ComplexForm;
@@ -33,6 +34,9 @@ pub struct ModeSettings {
     pub max_modes: usize,
     /// Wall conductivity (S/m) for the wall Q; None = PEC (no wall loss).
     pub wall_conductivity: Option<f64>,
+    /// How walls of finite conductivity enter: after the solve by perturbation, or in it
+    /// as a surface impedance ([`crate::fem::impedance`]).
+    pub wall_losses: WallLosses,
     /// Feed ports (matched TE10 apertures); their faces are PEC when this is empty.
     pub ports: Vec<PortFrame>,
 }
@@ -55,13 +59,33 @@ impl ModeSettings {
             eigen: EigenOptions::default(),
             max_modes: 400,
             wall_conductivity: None,
+            wall_losses: WallLosses::default(),
             ports: Vec::new(),
         }
     }
 
-    /// Whether the problem is complex: lossy regions or ports.
+    /// Whether the problem is complex: lossy regions, ports, or impedance walls.
     pub fn is_complex(&self, materials: &[RegionMaterial]) -> bool {
-        !self.ports.is_empty() || materials.iter().any(|m| m.eps_imag != 0.0)
+        !self.ports.is_empty()
+            || materials.iter().any(|m| m.eps_imag != 0.0)
+            || self.impedance_walls().is_some()
+    }
+
+    /// The finite-element space of the solve on `mesh`: wall unknowns eliminated
+    /// (perfectly conducting, or walls by perturbation), or kept for impedance walls.
+    pub fn space<'m>(&self, mesh: &'m TetMesh) -> Space<'m> {
+        match self.impedance_walls() {
+            Some(_) => Space::with_impedance_walls(mesh, self.order, self.ports.len()),
+            None => Space::with_ports(mesh, self.order, self.ports.len()),
+        }
+    }
+
+    /// The wall conductivity when the walls enter the solve as a surface impedance.
+    pub fn impedance_walls(&self) -> Option<f64> {
+        match self.wall_losses {
+            WallLosses::Impedance => self.wall_conductivity,
+            WallLosses::Perturbation => None,
+        }
     }
 
     /// The checks made before any work: a positive finite target and one material per

@@ -145,7 +145,8 @@ pub fn weyl_air_only(band_hz: [f64; 2], cavity: WeylCavity) -> Option<WeylEstima
 pub struct Completeness {
     /// Both band edges lie inside the search disc.
     pub complete: bool,
-    /// The listing is complete for modes whose Q from loads and ports is at least this
+    /// The listing is complete for modes whose Q from loads, ports and impedance walls (the
+    /// eigenvalue's) is at least this
     /// (None when incomplete, and when the eigenproblem is lossless: all modes real).
     pub above_q: Option<f64>,
 }

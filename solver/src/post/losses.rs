@@ -9,6 +9,14 @@
 //! * dielectric loss P_d = (ω ε0/2) ∫ ε″|E|² dV, so Q_d = ωW/P_d = ∫ε′|E|² / ∫ε″|E|²;
 //! * wall loss by perturbation with Rs = √(ωμ0/2σ): P_c = (Rs/2) ∮ |H_t|² dS with
 //!   H = ∇×E/(−jωμ0), so Q_c = k0² ωμ0 ∫ε′|E|² / (Rs ∮|n×∇×E|² dS);
+//! * wall loss of a solve with surface-impedance walls ([`crate::fem::impedance`]):
+//!   the tangential H at the wall from the boundary condition the field was solved with,
+//!   n×∇×E = c(ω_t) E_t weakly (ω_t the target, where the term was factorised), so
+//!   |H_t| = |c(ω_t)| |E_t| / (ωμ0) and P_c = (Rs(ω)/2) ∮|H_t|² dS, i.e.
+//!   Q_c = ωε0 ∫ε′|E|² (ωμ0)² / (Rs(ω) |c(ω_t)|² ∮|n×E|² dS). At ω = ω_t this is
+//!   ∮|E_t|²/(4Rs), the wall's share of Im k0² of the discrete problem exactly; away
+//!   from it the two agree to first order in ω − ω_t (the refined eigenvalue is first
+//!   order too), and this one does not depend on the target at leading order;
 //! * port p with amplitude c_p and TE10 constant β_p: P_p = (β_p/2ωμ0) N_p |c_p|², so
 //!   Q_ext,p = k0² ∫ε′|E|² / (β_p N_p |c_p|²) (infinite below cutoff);
 //! * 1/Q_L = 1/Q_d + 1/Q_c + Σ 1/Q_ext, 1/Q0 = 1/Q_d + 1/Q_c; coupling κ = Q0/Q_ext;
@@ -17,10 +25,11 @@
 //!
 //! With several ports, the other ports count as losses for port p (they are matched).
 
-use crate::constants::{C0, MU0};
+use crate::constants::{C0, EPS0, MU0};
 use crate::fem::assembly::RegionMaterial;
 use crate::fem::dofmap::FIXED;
 use crate::fem::element::NedelecTet;
+use crate::fem::impedance::{wall_coefficient, WallLosses};
 use crate::fem::tet_geometry::face_normal_area;
 use crate::fem::Space;
 use antinode_mesh::BoundaryTag;
@@ -33,6 +42,9 @@ pub struct ModeIntegrals {
     pub region_e2: Vec<f64>,
     /// ∮_walls |n × ∇×E|² dS.
     pub wall_curl2: f64,
+    /// ∮_walls |n × E|² dS (zero on perfectly conducting walls; the impedance walls'
+    /// loss).
+    pub wall_e2: f64,
 }
 
 fn quad_form(m: &[f64], n: usize, x: &[f64]) -> f64 {
@@ -80,7 +92,8 @@ pub fn mode_integrals(space: &Space<'_>, modes: &[(&[f64], &[f64])]) -> Vec<Mode
         vec![
             ModeIntegrals {
                 region_e2: vec![0.0; nreg],
-                wall_curl2: 0.0
+                wall_curl2: 0.0,
+                wall_e2: 0.0,
             };
             modes.len()
         ]
@@ -119,6 +132,7 @@ pub fn mode_integrals(space: &Space<'_>, modes: &[(&[f64], &[f64])]) -> Vec<Mode
                         let (xr, xi) = xl.split_at_mut(nl);
                         gather(td, re, im, xr, xi);
                         acc[mi].wall_curl2 += quad_form(&kc, nl, xr) + quad_if(&kc, nl, im, xi);
+                        acc[mi].wall_e2 += quad_form(&mm, nl, xr) + quad_if(&mm, nl, im, xi);
                     }
                 }
                 (acc, kc, mm, xl)
@@ -131,6 +145,7 @@ pub fn mode_integrals(space: &Space<'_>, modes: &[(&[f64], &[f64])]) -> Vec<Mode
                     *r += s;
                 }
                 x.wall_curl2 += y.wall_curl2;
+                x.wall_e2 += y.wall_e2;
             }
             a
         })
@@ -140,6 +155,40 @@ pub fn mode_integrals(space: &Space<'_>, modes: &[(&[f64], &[f64])]) -> Vec<Mode
 pub fn surface_resistance(freq_hz: f64, conductivity: f64) -> f64 {
     let omega = 2.0 * std::f64::consts::PI * freq_hz;
     (omega * MU0 / (2.0 * conductivity)).sqrt()
+}
+
+/// The wall model of a mode's Q_c.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum WallLoss {
+    /// Perfectly conducting walls: no loss.
+    Pec,
+    /// Q_c by perturbation from ∮|n×∇×E|² (walls of conductivity σ, S/m).
+    Perturbation { conductivity: f64 },
+    /// Q_c from ∮|n×E|² of a solve with surface-impedance walls of conductivity σ
+    /// whose term was evaluated at `target_hz`.
+    Impedance { conductivity: f64, target_hz: f64 },
+}
+
+impl WallLoss {
+    /// The model of walls with `conductivity` (None: PEC) entering as `losses` says
+    /// (impedance walls evaluated at `target_hz`).
+    pub fn of(conductivity: Option<f64>, losses: WallLosses, target_hz: f64) -> Self {
+        match (conductivity, losses) {
+            (None, _) => WallLoss::Pec,
+            (Some(conductivity), WallLosses::Perturbation) => {
+                WallLoss::Perturbation { conductivity }
+            }
+            (Some(conductivity), WallLosses::Impedance) => WallLoss::Impedance {
+                conductivity,
+                target_hz,
+            },
+        }
+    }
+
+    /// Whether the wall loss is part of the complex eigenvalue.
+    pub fn in_eigenvalue(self) -> bool {
+        matches!(self, WallLoss::Impedance { .. })
+    }
 }
 
 /// Port quantities of one mode.
@@ -190,12 +239,26 @@ fn q_of(num: f64, den: f64) -> f64 {
     }
 }
 
-/// Q parts of a mode at real frequency `freq_hz` from its integrals.
+/// Q parts of a mode at real frequency `freq_hz` from its integrals, walls of
+/// `wall_conductivity` by perturbation.
 pub fn mode_q(
     freq_hz: f64,
     integrals: &ModeIntegrals,
     materials: &[RegionMaterial],
     wall_conductivity: Option<f64>,
+    ports: &[PortPower],
+) -> ModeQ {
+    let walls = WallLoss::of(wall_conductivity, WallLosses::Perturbation, freq_hz);
+    mode_q_with(freq_hz, integrals, materials, walls, ports)
+}
+
+/// Q parts of a mode at real frequency `freq_hz` from its integrals, with the wall
+/// model `walls`.
+pub fn mode_q_with(
+    freq_hz: f64,
+    integrals: &ModeIntegrals,
+    materials: &[RegionMaterial],
+    walls: WallLoss,
     ports: &[PortPower],
 ) -> ModeQ {
     let omega = 2.0 * std::f64::consts::PI * freq_hz;
@@ -213,12 +276,21 @@ pub fn mode_q(
         .map(|(e, m)| m.eps_imag * e)
         .sum();
     let q_dielectric = q_of(m_real, m_imag);
-    let q_walls = match wall_conductivity {
-        Some(sigma) => {
-            let rs = surface_resistance(freq_hz, sigma);
+    let q_walls = match walls {
+        WallLoss::Perturbation { conductivity } => {
+            let rs = surface_resistance(freq_hz, conductivity);
             q_of(k0 * k0 * omega * MU0 * m_real, rs * integrals.wall_curl2)
         }
-        None => f64::INFINITY,
+        WallLoss::Impedance {
+            conductivity,
+            target_hz,
+        } => {
+            let rs = surface_resistance(freq_hz, conductivity);
+            let c_t = wall_coefficient(2.0 * std::f64::consts::PI * target_hz / C0, conductivity);
+            let h2 = c_t.norm_sqr() * integrals.wall_e2 / (omega * MU0).powi(2);
+            q_of(omega * EPS0 * m_real, rs * h2)
+        }
+        WallLoss::Pec => f64::INFINITY,
     };
     let q_ports: Vec<f64> = ports
         .iter()
@@ -284,18 +356,18 @@ pub fn mode_q(
 ///
 /// The refined eigenvalue is accurate to second order, the amplitudes only to first.
 /// So the total port damping is taken from the eigenvalue (1/Q_ext = 1/Q_eigen − 1/Q_d,
-/// exact for the linear problem) and shared among the ports as the power balance shares
+/// less 1/Q_c with impedance walls; exact for the linear problem) and shared among the ports as the power balance shares
 /// it. The matching is skipped when the subtraction is not meaningful (port damping lost
 /// in the dielectric one, or a factor outside [1/2, 2]).
 pub fn eigen_matched_q(
     freq_hz: f64,
     integrals: &ModeIntegrals,
     materials: &[RegionMaterial],
-    wall_conductivity: Option<f64>,
+    walls: WallLoss,
     ports: &mut [PortPower],
     q_eigen: f64,
 ) -> (ModeQ, Vec<f64>) {
-    let mut q = mode_q(freq_hz, integrals, materials, wall_conductivity, ports);
+    let mut q = mode_q_with(freq_hz, integrals, materials, walls, ports);
     let q_ports_balance = q.q_ports.clone();
     let inv_ext_balance: f64 = q
         .q_ports
@@ -304,17 +376,18 @@ pub fn eigen_matched_q(
         .filter(|x| x.is_finite())
         .sum();
     if !ports.is_empty() && q_eigen.is_finite() && inv_ext_balance > 0.0 {
-        let inv_d = if q.q_dielectric.is_finite() {
-            1.0 / q.q_dielectric
-        } else {
-            0.0
-        };
+        let inv_d = inv(q.q_dielectric)
+            + if walls.in_eigenvalue() {
+                inv(q.q_walls)
+            } else {
+                0.0
+            };
         let scale = (1.0 / q_eigen - inv_d) / inv_ext_balance;
         if (0.5..=2.0).contains(&scale) {
             for p in ports.iter_mut() {
                 p.amplitude2_norm *= scale;
             }
-            q = mode_q(freq_hz, integrals, materials, wall_conductivity, ports);
+            q = mode_q_with(freq_hz, integrals, materials, walls, ports);
         }
     }
     (q, q_ports_balance)
