@@ -1,8 +1,8 @@
 //! The validated in-memory form of a geometry: cavity, loads, ports and settings, in the
 //! file's units (mm, GHz).
 
-use crate::material::Material;
 use super::turntable::Turntable;
+use crate::material::Material;
 use std::path::PathBuf;
 
 /// A validated geometry file.

@@ -92,7 +92,9 @@ pub fn rotate_shape(shape: &LoadShape, center: [f64; 2], angle_deg: f64) -> Load
 impl Turntable {
     /// The angles of `steps` equal steps over one turn: 0, 360/N, …
     pub fn equal_steps(steps: usize) -> Vec<f64> {
-        (0..steps).map(|i| 360.0 * i as f64 / steps as f64).collect()
+        (0..steps)
+            .map(|i| 360.0 * i as f64 / steps as f64)
+            .collect()
     }
 
     /// Whether the load named `name` rides on the plate.
@@ -136,7 +138,10 @@ pub fn document_at_angle(doc: &Table, geometry: &Geometry, angle_deg: f64) -> Ta
         let Some(name) = t.get("name").and_then(Value::as_str).map(str::trim) else {
             continue;
         };
-        let carried = geometry.turntable.as_ref().is_some_and(|tt| tt.carries(name));
+        let carried = geometry
+            .turntable
+            .as_ref()
+            .is_some_and(|tt| tt.carries(name));
         let Some(shape) = turned.load(name).and_then(|l| l.shape) else {
             continue;
         };
@@ -172,7 +177,8 @@ impl Ctx<'_> {
     ) -> Res<Turntable> {
         let item = Item::Turntable;
         let t = rt.get_ref();
-        let center: [f64; 2] = self.array(&t.center, &item, "center", "(x, y of the axis in mm)")?;
+        let center: [f64; 2] =
+            self.array(&t.center, &item, "center", "(x, y of the axis in mm)")?;
         let names: Vec<String> = match &t.loads {
             None => loads.iter().map(|l| l.name.clone()).collect(),
             Some(list) => {

@@ -21,7 +21,6 @@ pub mod key_path;
 pub use error::SweepError;
 pub use file::{Combine, Parameter, RunKind, SweepFile};
 
-
 use crate::error::GeometryError;
 use crate::geometry::turntable::document_at_angle;
 use crate::geometry::{LoadShape, Turntable};

@@ -90,7 +90,10 @@ fn unknown_load_and_bad_steps_are_located() {
     let e = with("[turntable]\ncenter = [150.0, 150.0]\nloads = [\"soup\"]\nsteps = 2\n")
         .unwrap_err()
         .to_string();
-    assert!(e.contains("[turntable]") && e.contains("\"soup\"") && e.contains("\"dish\""), "{e}");
+    assert!(
+        e.contains("[turntable]") && e.contains("\"soup\"") && e.contains("\"dish\""),
+        "{e}"
+    );
     // The `loads` line: two below the table header, which follows BASE and a blank line.
     let line = BASE.matches('\n').count() + 4;
     assert!(e.contains(&format!("line {line}")), "{e}");
@@ -112,18 +115,26 @@ fn unknown_load_and_bad_steps_are_located() {
 fn a_load_leaving_the_cavity_at_some_angle_names_the_angle() {
     // About (100, 150) the dish's centre (200, 150) goes to (100, 250) at 90° (inside) and
     // to (0, 150) at 180°, where its footprint spans x = −20 .. 20 mm.
-    let e = with("[turntable]\ncenter = [100.0, 150.0]\nloads = [\"dish\"]\nsteps = 4\n")
-        .unwrap_err();
+    let e =
+        with("[turntable]\ncenter = [100.0, 150.0]\nloads = [\"dish\"]\nsteps = 4\n").unwrap_err();
     let text = e.to_string();
     assert!(matches!(e, GeometryError::AtPlateAngle { angle_deg, .. } if angle_deg == 180.0));
-    assert!(text.contains("angle 180°") && text.contains("outside the cavity"), "{text}");
+    assert!(
+        text.contains("angle 180°") && text.contains("outside the cavity"),
+        "{text}"
+    );
     // About (150, 150) with the cup fixed: the dish at 0° is 30 mm from the cup's axis and
     // stays so (its near side is on a circle of radius 30 > 20 mm); accepted. About
     // (200, 100) the dish's centre goes to (164.6, 135.4) at 45°, 20.7 mm from the cup's
     // axis, less than its half side plus the cup's radius.
     assert!(with("[turntable]\ncenter = [150.0, 150.0]\nloads = [\"dish\"]\nsteps = 8\n").is_ok());
-    let e = with("[turntable]\ncenter = [200.0, 100.0]\nloads = [\"dish\"]\nangles_deg = [0.0, 45.0]\n")
-        .unwrap_err();
+    let e = with(
+        "[turntable]\ncenter = [200.0, 100.0]\nloads = [\"dish\"]\nangles_deg = [0.0, 45.0]\n",
+    )
+    .unwrap_err();
     let text = e.to_string();
-    assert!(text.contains("angle 45°") && text.contains("overlaps load \"cup\""), "{text}");
+    assert!(
+        text.contains("angle 45°") && text.contains("overlaps load \"cup\""),
+        "{text}"
+    );
 }
