@@ -43,6 +43,19 @@ pub struct LoadGrid {
     pub spacing: [f64; 3],
 }
 
+/// Cell counts, sides and first corner of the in-plane grid in the load's own axes, which
+/// cell centres to keep, and the map from those axes to global x-y.
+type InPlane = (
+    usize,
+    usize,
+    f64,
+    f64,
+    f64,
+    f64,
+    Box<dyn Fn([f64; 2]) -> bool>,
+    Box<dyn Fn([f64; 2]) -> [f64; 2]>,
+);
+
 /// Cells along a length at about `h` mm each.
 fn cells_along(length: f64, h: f64) -> usize {
     ((length / h).ceil() as usize).max(MIN_CELLS_PER_SIDE)
@@ -54,16 +67,7 @@ pub fn load_grid(shape: &LoadShape, h: f64) -> LoadGrid {
     let nz = cells_along(z1 - z0, h);
     let dz = (z1 - z0) / nz as f64;
     // In-plane: local (u, v) cells and the map from local to global x-y.
-    let (nu, nv, du, dv, u0, v0, keep, to_global): (
-        usize,
-        usize,
-        f64,
-        f64,
-        f64,
-        f64,
-        Box<dyn Fn([f64; 2]) -> bool>,
-        Box<dyn Fn([f64; 2]) -> [f64; 2]>,
-    ) = match *shape {
+    let (nu, nv, du, dv, u0, v0, keep, to_global): InPlane = match *shape {
         LoadShape::Box { .. } => {
             let f: BoxFootprint = shape.box_footprint().expect("box load");
             let (nu, nv) = (
@@ -106,7 +110,7 @@ pub fn load_grid(shape: &LoadShape, h: f64) -> LoadGrid {
             if !keep(mid) {
                 continue;
             }
-            let quad = [[ua, va], [ub, va], [ub, vb], [ua, vb]].map(|q| to_global(q));
+            let quad = [[ua, va], [ub, va], [ub, vb], [ua, vb]].map(&to_global);
             let c = to_global(mid);
             for k in 0..nz {
                 let (za, zb) = (z0 + k as f64 * dz, z0 + (k + 1) as f64 * dz);

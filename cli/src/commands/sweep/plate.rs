@@ -20,6 +20,10 @@ use anyhow::{anyhow, Context, Result};
 use serde::{Deserialize, Serialize};
 use std::path::Path;
 
+/// One load at one field frequency: the grid points held at every angle, and each
+/// angle's samples at them.
+type KeptSamples = (Vec<usize>, Vec<Vec<f64>>);
+
 /// `plate_samples.json` of one variant.
 #[derive(Serialize, Deserialize)]
 pub struct PlateSamplesDoc {
@@ -134,6 +138,9 @@ struct MeanLoadHeating {
     fixed_angle_cov_mean: f64,
     fixed_angle_cov_min: f64,
     fixed_angle_cov_max: f64,
+    /// rms over angles and points of (q_θ − q̄), over the mean of q̄: how much the angles'
+    /// patterns differ in the load's frame (0 when every angle heats it alike).
+    angle_spread: f64,
 }
 
 #[derive(Serialize)]
@@ -251,7 +258,7 @@ pub fn collect(
         let n_at = rs[0].samples.frequencies_ghz.len();
         // Per load and field frequency: the grid points held at every angle, then each
         // angle's samples there.
-        let mut heat: Vec<Vec<(Vec<usize>, Vec<Vec<f64>>)>> = Vec::new();
+        let mut heat: Vec<Vec<KeptSamples>> = Vec::new();
         for (li, (name, grid)) in grids.iter().enumerate() {
             let mut per_f = Vec::new();
             for fi in 0..n_at {
@@ -329,7 +336,16 @@ pub fn collect(
                             .iter()
                             .map(|e| e.at[fi].heating[li].cov)
                             .collect();
+                        let qm = mean(avg.iter().copied());
+                        let spread = (s
+                            .iter()
+                            .flat_map(|sa| sa.iter().zip(&avg).map(|(q, m)| (q - m).powi(2)))
+                            .sum::<f64>()
+                            / (s.len() * avg.len()).max(1) as f64)
+                            .sqrt()
+                            / qm;
                         let h = MeanLoadHeating {
+                            angle_spread: spread,
                             averaged: figures(kept, &avg, name, grid.points.len()),
                             fixed_angle_cov_mean: mean(each.iter().copied()),
                             fixed_angle_cov_min: each.iter().copied().fold(f64::INFINITY, f64::min),
@@ -492,7 +508,7 @@ pub fn collect(
 fn write_vtu(
     path: &Path,
     grids: &[(String, LoadGrid)],
-    heat: &[Vec<(Vec<usize>, Vec<Vec<f64>>)>],
+    heat: &[Vec<KeptSamples>],
     averaged: &[Vec<Vec<f64>>],
     angles: &[f64],
 ) -> Result<()> {
