@@ -38,6 +38,8 @@ pub enum Item {
     Port(String),
     Mesh,
     Solve,
+    /// The `[turntable]` table.
+    Turntable,
 }
 
 impl fmt::Display for Item {
@@ -49,6 +51,7 @@ impl fmt::Display for Item {
             Item::Port(n) => write!(f, "port \"{n}\""),
             Item::Mesh => f.write_str("[mesh]"),
             Item::Solve => f.write_str("[solve]"),
+            Item::Turntable => f.write_str("[turntable]"),
         }
     }
 }
@@ -203,6 +206,18 @@ pub enum GeometryError {
         first_line: Option<usize>,
     },
 
+    /// A placement the turning plate reaches is invalid (a load leaves the cavity or
+    /// meets another load at this angle).
+    #[error(
+        "{at}: [turntable] at plate angle {angle_deg}°: {source}; move the plate's center or \
+         the loads, or leave this angle out"
+    )]
+    AtPlateAngle {
+        at: Box<Location>,
+        angle_deg: f64,
+        source: Box<GeometryError>,
+    },
+
     /// A `[mesh.groups]` entry maps to something that is not "air", "wall", a load or a port.
     #[error(
         "{at}: [mesh.groups]: physical group \"{group}\" maps to \"{target}\"; allowed: \
@@ -233,6 +248,7 @@ impl GeometryError {
             | PortDoesNotFit { at, .. }
             | PortWrongWall { at, .. }
             | DuplicateName { at, .. }
+            | AtPlateAngle { at, .. }
             | UnknownGroupTarget { at, .. } => Some(at.as_ref()),
         }
     }

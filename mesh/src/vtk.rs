@@ -46,6 +46,9 @@ pub enum CellBlock<'a> {
     /// 10-node tetrahedra (VTK_QUADRATIC_TETRA = 24): the four corners, then the
     /// mid-edge nodes of edges (0,1), (1,2), (0,2), (0,3), (1,3), (2,3), in that order.
     QuadraticTets(&'a [[u32; 10]]),
+    /// 8-node hexahedra (VTK_HEXAHEDRON = 12): the bottom face counter-clockwise seen
+    /// from above, then the top face in the same order.
+    Hexahedra(&'a [[u32; 8]]),
 }
 
 impl CellBlock<'_> {
@@ -55,6 +58,7 @@ impl CellBlock<'_> {
             CellBlock::Triangles(c) => c.len(),
             CellBlock::Tets(c) => c.len(),
             CellBlock::QuadraticTets(c) => c.len(),
+            CellBlock::Hexahedra(c) => c.len(),
         }
     }
 
@@ -69,6 +73,7 @@ impl CellBlock<'_> {
             CellBlock::Triangles(_) => 3,
             CellBlock::Tets(_) => 4,
             CellBlock::QuadraticTets(_) => 10,
+            CellBlock::Hexahedra(_) => 8,
         }
     }
 
@@ -78,6 +83,7 @@ impl CellBlock<'_> {
             CellBlock::Triangles(_) => 5,
             CellBlock::Tets(_) => 10,
             CellBlock::QuadraticTets(_) => 24,
+            CellBlock::Hexahedra(_) => 12,
         }
     }
 
@@ -87,6 +93,7 @@ impl CellBlock<'_> {
             CellBlock::Triangles(c) => c.as_flattened(),
             CellBlock::Tets(c) => c.as_flattened(),
             CellBlock::QuadraticTets(c) => c.as_flattened(),
+            CellBlock::Hexahedra(c) => c.as_flattened(),
         }
     }
 }

@@ -31,7 +31,7 @@ try:
 except ImportError as e:  # pragma: no cover - depends on the machine
     sys.exit(f"check_vtk: the 'vtk' Python package is needed (pip install vtk): {e}")
 
-CELL_TYPE_NAMES = {5: "triangle", 10: "tetra", 24: "quadratic_tetra"}
+CELL_TYPE_NAMES = {5: "triangle", 10: "tetra", 12: "hexahedron", 24: "quadratic_tetra"}
 CELL_TYPE_CODES = {v: k for k, v in CELL_TYPE_NAMES.items()}
 
 

@@ -53,6 +53,9 @@
 //! - defaults: `[mesh]` order 2, per_wavelength 6, max_size 20 mm; `[solve]` target
 //!   2.45 GHz, count 20 when no band is given.
 //!
+//! - `[turntable]`: loads riding on a turning plate, with the angles a sweep runs
+//!   ([`turntable`]); the file's placement is plate angle 0.
+//!
 //! Every key is checked: unknown keys, out-of-range values, loads outside the cavity or
 //! overlapping each other (touching is allowed), ports that do not fit on their wall and
 //! duplicate names are rejected with a [`GeometryError`](crate::error::GeometryError) naming file, line, entry and value.
@@ -66,6 +69,8 @@ mod parse;
 pub mod ports;
 mod raw;
 mod settings;
+pub mod turntable;
 mod validate;
 
 pub use model::*;
+pub use turntable::Turntable;

@@ -1,6 +1,7 @@
 //! The validated in-memory form of a geometry: cavity, loads, ports and settings, in the
 //! file's units (mm, GHz).
 
+use super::turntable::Turntable;
 use crate::material::Material;
 use std::path::PathBuf;
 
@@ -19,6 +20,9 @@ pub struct Geometry {
     pub mesh: MeshSettings,
     /// Eigen-solve settings.
     pub solve: SolveSettings,
+    /// A turning plate carrying some loads (`[turntable]`); the loads are stored at the
+    /// placement written in the file, which is angle 0.
+    pub turntable: Option<Turntable>,
     /// File the geometry was read from, if any (for messages and relative paths).
     pub source: Option<PathBuf>,
 }

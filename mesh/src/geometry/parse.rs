@@ -151,6 +151,11 @@ impl Ctx<'_> {
             }
         }
         let mesh = self.mesh(raw.mesh.as_ref(), &loads, &ports)?;
+        let turntable = raw
+            .turntable
+            .as_ref()
+            .map(|t| self.turntable(t, &cavity.shape, &loads, &load_lines))
+            .transpose()?;
         Ok(Geometry {
             title: raw.title.map(Spanned::into_inner).unwrap_or_default(),
             cavity,
@@ -158,6 +163,7 @@ impl Ctx<'_> {
             ports,
             mesh,
             solve,
+            turntable,
             source: self.file.clone(),
         })
     }

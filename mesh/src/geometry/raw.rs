@@ -18,6 +18,17 @@ pub(super) struct RawFile {
     pub(super) port: Vec<Spanned<RawPort>>,
     pub(super) mesh: Option<Spanned<RawMesh>>,
     pub(super) solve: Option<Spanned<RawSolve>>,
+    pub(super) turntable: Option<Spanned<RawTurntable>>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+pub(super) struct RawTurntable {
+    pub(super) center: Spanned<Vec<f64>>,
+    pub(super) loads: Option<Spanned<Vec<Spanned<String>>>>,
+    pub(super) steps: Option<Spanned<i64>>,
+    pub(super) angles_deg: Option<Spanned<Vec<f64>>>,
+    pub(super) grid_mm: Option<Spanned<f64>>,
 }
 
 #[derive(Deserialize)]

@@ -12,6 +12,10 @@
 //! key = "cavity.size.2"               # dotted path into the geometry (see key_path)
 //! range = { from = 180.0, to = 220.0, steps = 5 }   # or: values = [180.0, 200.0]
 //! ```
+//!
+//! When the base geometry has a `[turntable]`, every parameter combination runs at each of
+//! its angles (a column `turntable.angle_deg`, varying fastest), and `[[parameter]]` may be
+//! left out: the sweep is then over the plate angles alone.
 
 use super::error::SweepError;
 use super::key_path;
@@ -73,6 +77,9 @@ pub struct SweepFile {
     pub options: BTreeMap<RunKind, Vec<String>>,
     pub combine: Combine,
     pub parameters: Vec<Parameter>,
+    /// The plate angles (degrees) when the base geometry has a `[turntable]`: every
+    /// parameter combination then runs at each angle (the angle varies fastest).
+    pub plate_angles: Option<Vec<f64>>,
 }
 
 #[derive(Deserialize)]
@@ -204,11 +211,31 @@ impl SweepFile {
                 ))
             }
         };
+        let plate_angles = plate_angles(path, &geometry, &base)?;
         let mut parameters = Vec::with_capacity(raw.parameter.len());
         for p in &raw.parameter {
-            parameters.push(parameter(&cx, &base, p)?);
+            let param = parameter(&cx, &base, p)?;
+            if plate_angles.is_some()
+                && ["turntable.steps", "turntable.angles_deg"]
+                    .iter()
+                    .any(|k| param.key == *k || param.key.starts_with(&format!("{k}.")))
+            {
+                return Err(cx.invalid(
+                    p.get_ref().key.span().start,
+                    format!("parameter \"{}\"", param.key),
+                    "the plate angles come from the base geometry's [turntable] and are the \
+                     same for every variant; sweep other keys (turntable.center may be swept)",
+                ));
+            }
+            parameters.push(param);
         }
-        check_count(&cx, &raw.parameter, &parameters, combine)?;
+        check_count(
+            &cx,
+            &raw.parameter,
+            &parameters,
+            combine,
+            plate_angles.as_ref().map(Vec::len),
+        )?;
         Ok(SweepFile {
             path: path.to_path_buf(),
             title: raw.title,
@@ -218,7 +245,46 @@ impl SweepFile {
             options,
             combine,
             parameters,
+            plate_angles,
         })
+    }
+}
+
+/// The angles of the base geometry's `[turntable]` (its other keys are checked with each
+/// variant's geometry).
+fn plate_angles(
+    file: &Path,
+    geometry: &Path,
+    base: &Table,
+) -> Result<Option<Vec<f64>>, SweepError> {
+    let Some(t) = base.get("turntable") else {
+        return Ok(None);
+    };
+    let bad = |message: &str| SweepError::Base {
+        file: file.to_path_buf(),
+        geometry: geometry.to_path_buf(),
+        message: format!("[turntable]: {message}"),
+    };
+    let number = |v: &Value| match v {
+        Value::Float(x) => Some(*x),
+        Value::Integer(i) => Some(*i as f64),
+        _ => None,
+    };
+    match (t.get("steps"), t.get("angles_deg")) {
+        (Some(Value::Integer(n)), None)
+            if *n >= 1 && *n as u64 <= crate::geometry::turntable::MAX_ANGLES as u64 =>
+        {
+            Ok(Some(crate::geometry::Turntable::equal_steps(*n as usize)))
+        }
+        (None, Some(Value::Array(a))) if !a.is_empty() => a
+            .iter()
+            .map(|v| number(v).filter(|x| x.is_finite()))
+            .collect::<Option<Vec<f64>>>()
+            .map(Some)
+            .ok_or_else(|| bad("angles_deg must be finite numbers (degrees)")),
+        _ => Err(bad(
+            "give either steps = N (1 or more equal angles over a turn) or angles_deg = [...]",
+        )),
     }
 }
 
@@ -337,13 +403,19 @@ fn check_count(
     raw: &[Spanned<RawParameter>],
     params: &[Parameter],
     combine: Combine,
+    angles: Option<usize>,
 ) -> Result<(), SweepError> {
     if params.is_empty() {
-        return Err(cx.invalid(
-            0,
-            "no [[parameter]]",
-            "a sweep needs at least one [[parameter]] with key and values or range",
-        ));
+        // A turntable alone is a sweep over its angles (at most MAX_ANGLES).
+        return match angles {
+            Some(_) => Ok(()),
+            None => Err(cx.invalid(
+                0,
+                "no [[parameter]]",
+                "a sweep needs at least one [[parameter]] with key and values or range, \
+                 or a base geometry with a [turntable]",
+            )),
+        };
     }
     let count = match combine {
         Combine::Grid => params
@@ -361,7 +433,8 @@ fn check_count(
             }
             Some(n)
         }
-    };
+    }
+    .and_then(|n| n.checked_mul(angles.unwrap_or(1)));
     match count {
         Some(n) if n <= MAX_VARIANTS => Ok(()),
         _ => Err(cx.invalid(

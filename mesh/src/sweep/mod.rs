@@ -7,6 +7,12 @@
 //! parameter varies fastest); with `"zip"` variant k takes the k-th value of every
 //! parameter. A variant whose geometry is rejected keeps the geometry error beside its
 //! parameter values; the others are unaffected.
+//!
+//! A base geometry with a `[turntable]` adds one more, fastest-varying axis: the plate
+//! angles. Variant k is parameter combination ⌊k/A⌋ at angle k mod A (A angles); its
+//! geometry is the combination's geometry (validated at every angle, see
+//! [`crate::geometry::turntable`]) with the riding loads turned to that angle and the
+//! `[turntable]` table removed, so each variant is a plain geometry.
 
 pub mod error;
 pub mod file;
@@ -16,6 +22,8 @@ pub use error::SweepError;
 pub use file::{Combine, Parameter, RunKind, SweepFile};
 
 use crate::error::GeometryError;
+use crate::geometry::turntable::document_at_angle;
+use crate::geometry::{LoadShape, Turntable};
 use crate::Geometry;
 use std::path::{Path, PathBuf};
 use toml::Value;
@@ -31,19 +39,72 @@ pub struct Variant {
     pub text: String,
     /// The validated geometry, or why it is rejected.
     pub geometry: Result<Geometry, GeometryError>,
+    /// With a turntable: where this variant sits on the plate (None when rejected).
+    pub plate: Option<PlateVariant>,
+}
+
+/// The column of the plate angle in the sweep's tables.
+pub const PLATE_ANGLE_KEY: &str = "turntable.angle_deg";
+
+/// A variant of a turntable sweep: one plate angle of one parameter combination.
+#[derive(Clone, Debug)]
+pub struct PlateVariant {
+    /// The plate angle (degrees).
+    pub angle_deg: f64,
+    /// Position of the angle in the turntable's list.
+    pub angle_index: usize,
+    /// The parameter combination (0-based; the variants of one combination differ in the
+    /// angle only).
+    pub group: usize,
+    /// The combination's turntable.
+    pub turntable: Turntable,
+    /// The riding loads at plate angle 0 (name, shape), in file order: the load frame.
+    pub loads: Vec<(String, LoadShape)>,
 }
 
 impl SweepFile {
     /// The number of variants.
     pub fn variant_count(&self) -> usize {
+        self.combination_count() * self.angle_count()
+    }
+
+    /// The number of parameter combinations (1 for a turntable without parameters).
+    pub fn combination_count(&self) -> usize {
         match self.combine {
+            _ if self.parameters.is_empty() => 1,
             Combine::Grid => self.parameters.iter().map(|p| p.values.len()).product(),
             Combine::Zip => self.parameters[0].values.len(),
         }
     }
 
-    /// The parameter value indices of variant `k` (see the module docs).
+    /// The number of plate angles (1 without a turntable).
+    pub fn angle_count(&self) -> usize {
+        self.plate_angles.as_ref().map_or(1, Vec::len)
+    }
+
+    /// The table columns of the variant values: the parameter keys, then
+    /// [`PLATE_ANGLE_KEY`] with a turntable.
+    pub fn column_keys(&self) -> Vec<String> {
+        let mut keys: Vec<String> = self.parameters.iter().map(|p| p.key.clone()).collect();
+        if self.plate_angles.is_some() {
+            keys.push(PLATE_ANGLE_KEY.to_string());
+        }
+        keys
+    }
+
+    /// The value indices of variant `k` (see the module docs): one per parameter, then
+    /// the angle's with a turntable.
     pub fn value_indices(&self, k: usize) -> Vec<usize> {
+        let a = self.angle_count();
+        let mut idx = self.combination_indices(k / a);
+        if self.plate_angles.is_some() {
+            idx.push(k % a);
+        }
+        idx
+    }
+
+    /// The parameter value indices of combination `k`.
+    fn combination_indices(&self, k: usize) -> Vec<usize> {
         match self.combine {
             Combine::Zip => vec![k; self.parameters.len()],
             Combine::Grid => {
@@ -68,8 +129,8 @@ impl SweepFile {
 
     /// Variant `k` alone.
     pub fn variant(&self, k: usize, file: &Path) -> Variant {
-        let values: Vec<Value> = self
-            .value_indices(k)
+        let indices = self.value_indices(k);
+        let mut values: Vec<Value> = indices
             .iter()
             .zip(&self.parameters)
             .map(|(&i, p)| p.values[i].clone())
@@ -82,13 +143,58 @@ impl SweepFile {
             key_path::set(&mut doc, &p.key, v.clone())
                 .expect("parameter keys are checked against the base geometry");
         }
-        let text = toml::to_string(&doc).unwrap_or_default();
+        let Some(angles) = &self.plate_angles else {
+            let text = toml::to_string(&doc).unwrap_or_default();
+            let geometry = Geometry::from_toml_str(&text, Some(file));
+            return Variant {
+                index: k,
+                values,
+                text,
+                geometry,
+                plate: None,
+            };
+        };
+        let angle_index = k % angles.len();
+        let angle_deg = angles[angle_index];
+        values.push(Value::Float(angle_deg));
+        let whole = toml::to_string(&doc).unwrap_or_default();
+        // The combination is validated with its turntable (every angle), then written
+        // out at this angle.
+        let g = match Geometry::from_toml_str(&whole, Some(file)) {
+            Ok(g) => g,
+            Err(e) => {
+                return Variant {
+                    index: k,
+                    values,
+                    text: whole,
+                    geometry: Err(e),
+                    plate: None,
+                }
+            }
+        };
+        let text = toml::to_string(&document_at_angle(&doc, &g, angle_deg)).unwrap_or_default();
         let geometry = Geometry::from_toml_str(&text, Some(file));
+        let plate = match (&g.turntable, &geometry) {
+            (Some(t), Ok(_)) => Some(PlateVariant {
+                angle_deg,
+                angle_index,
+                group: k / angles.len(),
+                turntable: t.clone(),
+                loads: g
+                    .loads
+                    .iter()
+                    .filter(|l| t.carries(&l.name))
+                    .filter_map(|l| l.shape.map(|s| (l.name.clone(), s)))
+                    .collect(),
+            }),
+            _ => None,
+        };
         Variant {
             index: k,
             values,
             text,
             geometry,
+            plate,
         }
     }
 }

@@ -113,3 +113,60 @@ fn integer_keys_get_integer_ranges() {
     let v = s.variant(2, Path::new("v.toml"));
     assert_eq!(v.geometry.unwrap().solve.count, Some(6));
 }
+
+/// The base geometry with a turntable carrying the block about (150, 130).
+fn plate_folder(name: &str) -> PathBuf {
+    let d = folder(name);
+    let text = format!("{BASE}[turntable]\ncenter = [150.0, 130.0]\nsteps = 4\n");
+    std::fs::write(d.join("plate.toml"), text).unwrap();
+    d
+}
+
+#[test]
+fn turntable_alone_is_a_sweep_over_its_angles() {
+    let d = plate_folder("plate-alone");
+    let p = d.join("sweep.toml");
+    std::fs::write(&p, "geometry = \"plate.toml\"\nrun = [\"drive\"]\n").unwrap();
+    let s = SweepFile::from_file(&p).unwrap();
+    assert_eq!(s.variant_count(), 4);
+    assert_eq!(s.column_keys(), vec![PLATE_ANGLE_KEY.to_string()]);
+    let vs = s.variants(|k| d.join(format!("v{k}.toml")));
+    for (k, v) in vs.iter().enumerate() {
+        let plate = v.plate.as_ref().unwrap();
+        assert_eq!(plate.angle_deg, 90.0 * k as f64);
+        assert_eq!(v.values, vec![Value::Float(90.0 * k as f64)]);
+        let g = v.geometry.as_ref().unwrap();
+        assert!(g.turntable.is_none(), "a variant is a plain geometry");
+        let Some(crate::geometry::LoadShape::Box { angle_deg, .. }) = g.loads[0].shape else {
+            panic!("box expected")
+        };
+        assert_eq!(angle_deg, 90.0 * k as f64);
+    }
+}
+
+#[test]
+fn parameters_times_angles_and_a_bad_combination_is_rejected_with_its_angle() {
+    let d = plate_folder("plate-grid");
+    let p = d.join("sweep.toml");
+    // Centre (150, 130): the 60 mm block (half diagonal 42.4 mm) stays inside. Centre
+    // (40, 130): at 90° the block's centre goes from (150, 130) to (40, 240) and its
+    // footprint to y = 210 .. 270 mm, past the cavity's 260 mm.
+    std::fs::write(
+        &p,
+        "geometry = \"plate.toml\"\nrun = [\"drive\"]\n[[parameter]]\nkey = \"turntable.center\"\nvalues = [[150.0, 130.0], [40.0, 130.0]]\n",
+    )
+    .unwrap();
+    let s = SweepFile::from_file(&p).unwrap();
+    assert_eq!(s.variant_count(), 8);
+    assert_eq!(s.value_indices(5), vec![1, 1]);
+    let vs = s.variants(|k| d.join(format!("v{k}.toml")));
+    assert!(vs[..4].iter().all(|v| v.geometry.is_ok()));
+    for v in &vs[4..] {
+        let e = v.geometry.as_ref().unwrap_err().to_string();
+        assert!(e.contains("plate angle 90°"), "{e}");
+    }
+    let bad = "geometry = \"plate.toml\"\nrun = [\"drive\"]\n[[parameter]]\nkey = \"turntable.steps\"\nvalues = [2, 3]\n";
+    std::fs::write(&p, bad).unwrap();
+    let e = SweepFile::from_file(&p).unwrap_err().to_string();
+    assert!(e.contains("line 4") && e.contains("plate angles"), "{e}");
+}

@@ -64,6 +64,7 @@ pub fn geometry_with_ports(
             band: None,
             count: Some(10),
         },
+        turntable: None,
         source: None,
     }
 }

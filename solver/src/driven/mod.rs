@@ -4,13 +4,15 @@
 //! ([`system`]: formulation, normalisation and the energy identity), the parametrised
 //! system in affine form ([`affine`]), the fast sweep by Krylov projection ([`sweep`],
 //! with its bases in [`basis`]), S-parameters, power split and heating density
-//! ([`response`]), uniformity and temperature figures ([`uniformity`]), and the
+//! ([`response`]), uniformity and temperature figures ([`uniformity`]), the heating
+//! averaged over a turntable's rotation in the load's frame ([`rotation`]), and the
 //! pipeline [`solve_driven`] ([`solve`]).
 
 pub mod affine;
 pub mod basis;
 pub mod loads;
 pub mod response;
+pub mod rotation;
 pub mod solve;
 pub mod sweep;
 pub mod system;

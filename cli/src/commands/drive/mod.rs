@@ -18,7 +18,7 @@ use antinode_mesh::Geometry;
 use antinode_solver::budget::plan_driven;
 use antinode_solver::driven::loads::Thermal;
 use antinode_solver::driven::sweep::SweepOptions;
-use antinode_solver::driven::{solve_driven, DriveSettings};
+use antinode_solver::driven::{solve_driven, DriveSettings, DrivenResponse};
 use antinode_solver::post::band::ISM_BAND_HZ;
 use antinode_solver::problem::{
     drive_amplitudes, ghz_to_hz, order_of, port_frames, region_materials, region_permeabilities,
@@ -133,7 +133,30 @@ fn check_plan(args: &DriveArgs, mesh: &antinode_mesh::TetMesh, geom: &Geometry) 
 }
 
 pub fn run(args: &DriveArgs) -> Result<()> {
+    run_with(args, &mut |_, _| Ok(()))
+}
+
+/// [`run`], handing the mesh and the response to `inspect` before the folder is
+/// committed (the sweep samples a turntable variant's heating there).
+pub fn run_with(
+    args: &DriveArgs,
+    inspect: &mut dyn FnMut(&antinode_mesh::TetMesh, &DrivenResponse<'_>) -> Result<()>,
+) -> Result<()> {
     let mut geom = super::load_geometry(&args.geometry)?;
+    if geom.turntable.is_some() {
+        bail!(
+            "{}: this geometry has a [turntable]; `drive` runs one placement, and the \
+             rotation runs through `antinode sweep`: write a sweep file with\n  \
+             geometry = \"{}\"\n  run = [\"drive\"]\nand run `antinode sweep FILE` \
+             (one variant per plate angle, the averages in turntable.csv/json; README, \
+             Turntable)",
+            args.geometry.display(),
+            args.geometry
+                .file_name()
+                .map(|n| n.to_string_lossy().into_owned())
+                .unwrap_or_default()
+        );
+    }
     if geom.ports.is_empty() {
         bail!(
             "{}: a driven response needs at least one [[port]] to feed the cavity",
@@ -222,6 +245,7 @@ pub fn run(args: &DriveArgs) -> Result<()> {
         vtk_heating::write_one(dir, &mesh, &f.borrowed())?;
     }
     vtk_heating::write_pvd(dir, &at_ghz)?;
+    inspect(&mesh, &r)?;
     let dir = out.target().to_path_buf();
     out.commit("drive", &args.geometry)?;
     report::print_summary(&doc, &r);

@@ -104,7 +104,7 @@ pub fn collect(sweep: &SweepFile, dir: &Path, variants: &[Variant]) -> Result<()
         .map(|k| {
             k == 0
                 || results[k - 1].is_none()
-                || (sweep.combine == Combine::Grid && {
+                || ((sweep.combine == Combine::Grid || sweep.plate_angles.is_some()) && {
                     let (a, b) = (sweep.value_indices(k - 1), sweep.value_indices(k));
                     a[..a.len() - 1] != b[..b.len() - 1]
                 })
@@ -138,7 +138,7 @@ pub fn collect(sweep: &SweepFile, dir: &Path, variants: &[Variant]) -> Result<()
         drive.extend(r.drive.iter().cloned());
         at.extend(r.at.clone());
     }
-    let keys: Vec<String> = sweep.parameters.iter().map(|p| p.key.clone()).collect();
+    let keys: Vec<String> = sweep.column_keys();
     std::fs::create_dir_all(dir).with_context(|| format!("cannot create {}", dir.display()))?;
     tables::write_csv(&dir.join("sweep.csv"), &keys, &modes, &drive)?;
     let doc = SweepDoc {
@@ -160,6 +160,18 @@ pub fn collect(sweep: &SweepFile, dir: &Path, variants: &[Variant]) -> Result<()
     tables::write_atomic(&dir.join("sweep.json"), json.as_bytes())?;
     let svg = plot::svg(sweep, variants, &modes, &at);
     tables::write_atomic(&dir.join("sweep.svg"), svg.as_bytes())?;
+    if sweep.plate_angles.is_some() && sweep.run.contains(&RunKind::Drive) {
+        let plate: Vec<Option<super::plate::AngleResult>> = variants
+            .iter()
+            .zip(&doc.variants)
+            .map(|(v, e)| {
+                (e.status == "done")
+                    .then(|| super::plate::read_angle(dir, v, &e.values).ok())
+                    .flatten()
+            })
+            .collect();
+        super::plate::collect(sweep, dir, variants, &plate)?;
+    }
     let done = doc.variants.iter().filter(|e| e.status == "done").count();
     println!(
         "{done} of {} variants done; wrote {}/sweep.csv, sweep.json and sweep.svg",

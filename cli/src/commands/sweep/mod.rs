@@ -9,8 +9,15 @@
 //! `done.json` (the variant's content hash, written last). A variant is run in
 //! `variants/vNNN.partial/` and renamed to `vNNN/` when complete, so a folder without the
 //! suffix is always a complete result; `logs/vNNN.log` holds its terminal output.
+//!
+//! With a `[turntable]` in the base geometry every parameter combination runs at each
+//! plate angle (one variant per angle); a variant's folder then also holds
+//! `plate_samples.json` (its heating on the load-frame grids), and collect writes
+//! `turntable.csv`, `turntable.json` and `turntable_gNNN.vtu` beside the sweep tables
+//! (`plate.rs`).
 
 mod collect;
+mod plate;
 mod plot;
 mod schedule;
 mod slurm;
@@ -109,10 +116,10 @@ fn report_invalid(sweep: &SweepFile, variants: &[Variant]) {
 /// `key = value, …` of a variant.
 pub fn values_text(sweep: &SweepFile, v: &Variant) -> String {
     sweep
-        .parameters
+        .column_keys()
         .iter()
         .zip(&v.values)
-        .map(|(p, x)| format!("{} = {}", p.key, antinode_mesh::sweep::value_text(x)))
+        .map(|(k, x)| format!("{k} = {}", antinode_mesh::sweep::value_text(x)))
         .collect::<Vec<_>>()
         .join(", ")
 }

@@ -36,6 +36,14 @@ struct Panel<'a> {
 
 /// The plot's x value of each variant.
 fn x_values(sweep: &SweepFile, variants: &[Variant]) -> (Vec<f64>, String) {
+    if sweep.plate_angles.is_some() {
+        // The plate angle varies fastest: plot against it.
+        let xs = variants
+            .iter()
+            .map(|v| v.values.last().and_then(value_number).unwrap_or(f64::NAN))
+            .collect();
+        return (xs, antinode_mesh::sweep::PLATE_ANGLE_KEY.to_string());
+    }
     let last = sweep.parameters.len() - 1;
     let p = &sweep.parameters[last];
     let numeric = p.values.iter().all(|v| value_number(v).is_some());

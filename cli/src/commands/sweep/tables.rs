@@ -130,6 +130,28 @@ pub fn drive_lines(
     (lines, at_line)
 }
 
+/// The figures at every field (`--at`) frequency of a `response.json`.
+pub fn at_lines(doc: &Value, variant: usize) -> Vec<AtLine> {
+    doc["at"]
+        .as_array()
+        .map(|a| {
+            a.iter()
+                .filter_map(|at| {
+                    let fw = num(&at["forward_w"])?;
+                    let absorbed: f64 =
+                        at["absorbed_w"].as_object()?.values().filter_map(num).sum();
+                    Some(AtLine {
+                        variant,
+                        frequency_ghz: num(&at["frequency_ghz"])?,
+                        s11_abs: abs_pair(&at["s"][0][0])?,
+                        absorbed_fraction: absorbed / fw,
+                    })
+                })
+                .collect()
+        })
+        .unwrap_or_default()
+}
+
 fn opt(v: Option<f64>) -> String {
     v.map(|x| x.to_string()).unwrap_or_default()
 }

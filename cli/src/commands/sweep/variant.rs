@@ -154,7 +154,22 @@ pub fn run_one(sweep: &SweepFile, dir: &Path, v: &Variant) -> Result<()> {
                 let doc = doc.ok_or_else(|| anyhow!("modes returned no modes"))?;
                 write_json(&partial.join("probes.json"), &doc)?;
             }
-            RunKind::Drive => drive::run(&DriveLine::try_parse_from(&l)?.args)?,
+            RunKind::Drive => {
+                let args = DriveLine::try_parse_from(&l)?.args;
+                match (&v.plate, &v.geometry) {
+                    (Some(plate), Ok(g)) => {
+                        let names: Vec<String> = g.loads.iter().map(|l| l.name.clone()).collect();
+                        let mut doc = None;
+                        drive::run_with(&args, &mut |mesh, r| {
+                            doc = Some(super::plate::samples(plate, &names, mesh, r)?);
+                            Ok(())
+                        })?;
+                        let doc = doc.ok_or_else(|| anyhow!("drive returned no response"))?;
+                        super::plate::write_samples(&partial, &doc)?;
+                    }
+                    _ => drive::run(&args)?,
+                }
+            }
         }
     }
     let done = Done {
