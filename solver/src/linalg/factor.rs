@@ -38,7 +38,7 @@ pub enum FactorKind {
 }
 
 enum Numeric {
-    Supernodal(SupernodalLdlt<f64>),
+    Supernodal(Box<SupernodalLdlt<f64>>),
     Ldlt {
         values: Vec<f64>,
     },
@@ -49,7 +49,7 @@ enum Numeric {
         inv: Vec<u32>,
         /// For the tree-parallel solve (supernodal factors only): the schedule and the
         /// combined permutation (fill-reducing ordering, then pivoting).
-        tree: Option<(TreeSchedule, Vec<u32>)>,
+        tree: Option<Box<(TreeSchedule, Vec<u32>)>>,
     },
 }
 
@@ -139,7 +139,7 @@ impl SymmetricFactor {
                 SupernodalLdlt::new(a, |p| data[p], ordering, threads, FactorStep::NumericLdlt)?;
             return Ok(Self {
                 symbolic: None,
-                numeric: Numeric::Supernodal(f),
+                numeric: Numeric::Supernodal(Box::new(f)),
                 par,
                 workspaces: std::sync::Mutex::new(Vec::new()),
                 refine_state: std::sync::atomic::AtomicU8::new(0),
@@ -217,7 +217,10 @@ impl SymmetricFactor {
                             .iter()
                             .map(|&d| fill.as_ref().map_or(d, |f| f[d as usize]))
                             .collect();
-                        Some((TreeSchedule::new(sn, rayon::current_num_threads()), perm))
+                        Some(Box::new((
+                            TreeSchedule::new(sn, rayon::current_num_threads()),
+                            perm,
+                        )))
                     }
                     SymbolicCholeskyRaw::Simplicial(_) => None,
                 };
@@ -268,12 +271,13 @@ impl SymmetricFactor {
                 values,
                 subdiag,
                 inv,
-                tree: Some((schedule, perm)),
+                tree: Some(tree),
                 ..
             },
             SymbolicCholeskyRaw::Supernodal(symbolic),
         ) = (&self.numeric, self.faer_symbolic().raw())
         {
+            let (schedule, perm) = &**tree;
             let f = LbltFactor {
                 symbolic,
                 values,

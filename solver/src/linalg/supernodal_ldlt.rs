@@ -333,8 +333,9 @@ unsafe fn factor_supernode<T: FactorScalar, F: Fn(usize) -> T>(
     for j in s0..s1 {
         // Column j of P A Pᵀ is column fwd[j] of A (= row fwd[j]: symmetric storage).
         let orig = a.fwd[j] as usize;
-        for p in a_ptr[orig] as usize..a_ptr[orig + 1] as usize {
-            let i = a.inv[a_idx[p] as usize] as usize;
+        let (lo, hi) = (a_ptr[orig] as usize, a_ptr[orig + 1] as usize);
+        for (p, &c) in (lo..hi).zip(&a_idx[lo..hi]) {
+            let i = a.inv[c as usize] as usize;
             if i < j {
                 continue;
             }
