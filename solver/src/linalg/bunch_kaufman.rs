@@ -1,11 +1,12 @@
-//! Dense LDLᵀ of a complex symmetric block with Bunch–Kaufman pivoting (the supernode
-//! kernel of [`super::complex_ldlt`]).
+//! Dense LDLᵀ of a symmetric block, real or complex, with Bunch–Kaufman pivoting (the
+//! supernode kernel of [`super::supernodal_ldlt`]).
 //!
-//! For a complex symmetric A = Aᵀ (transpose, not conjugate transpose) of order m the
+//! For a symmetric A = Aᵀ (real, or complex with transpose, not conjugate transpose) of
+//! order m the
 //! factorisation is P A Pᵀ = L D Lᵀ with L unit lower triangular and D block diagonal
 //! with 1×1 and 2×2 blocks. The pivot choice is the partial pivoting of Bunch & Kaufman
 //! (Math. Comp. 31 (1977) 163–179) with α = (1 + √17)/8, in the form LAPACK's zsytf2 /
-//! zlasyf use it (complex modulus |re| + |im|): with λ the largest off-diagonal entry of
+//! zlasyf use it (complex modulus |re| + |im|, the absolute value of a real entry): with λ the largest off-diagonal entry of
 //! column k (at row r) and σ the largest off-diagonal entry of column r,
 //!
 //!   |a_kk| ≥ αλ  or  |a_kk|·σ ≥ αλ²  → 1×1 pivot a_kk;
@@ -18,13 +19,18 @@
 //! current values of any candidate column; after each panel one matrix product updates
 //! the trailing part.
 //!
-//! The block is the top of a supernode's dense column block: rows below the m×m top
-//! (the supernode's pattern rows) take part in every update and come out as
-//! L_bot = A_bot P⁻ᵀ L⁻ᵀ D⁻¹, but are never pivot candidates, so pivoting stays inside the
-//! supernode (the same restriction as faer's intranode LBLᵀ of real matrices).
+//! The block is the top of a supernode's dense column block: the rows below the m×m top
+//! (the supernode's pattern rows) are never pivot candidates, so pivoting stays inside
+//! the supernode (the same restriction as faer's intranode LBLᵀ). Once the top is
+//! factorised they follow from A_bot Pᵀ = L_bot D L_topᵀ as L_bot = A_bot Pᵀ L_top⁻ᵀ D⁻¹:
+//! one triangular solve with many right-hand sides (matrix-matrix work) instead of
+//! carrying the rows through every panel's column-by-column updates.
 
+use crate::linalg::triangular::FactorScalar;
 use faer::linalg::matmul::matmul;
-use faer::{c64, Accum, Mat, MatMut, MatRef, Par};
+use faer::linalg::matmul::triangular::{self, BlockStructure};
+use faer::linalg::triangular_solve::solve_unit_lower_triangular_in_place;
+use faer::{Accum, Mat, MatMut, MatRef, Par};
 
 /// Bunch–Kaufman's α = (1 + √17)/8, which minimises the bound on element growth per
 /// elimination step (Bunch & Kaufman 1977).
@@ -42,11 +48,6 @@ pub struct ZeroPivot {
     pub column: usize,
 }
 
-/// The modulus |re| + |im| LAPACK's complex pivot searches use (cabs1).
-fn cabs1(z: c64) -> f64 {
-    z.re.abs() + z.im.abs()
-}
-
 /// Factorise the column block `a` (rows ≥ columns m; the lower triangle of its top m×m
 /// part and all rows below hold the block) in place; `par` splits the trailing
 /// products over threads.
@@ -56,10 +57,10 @@ fn cabs1(z: c64) -> f64 {
 /// `subdiag[k]` holds D's entry (k+1, k) of a 2×2 block starting at k (zero otherwise),
 /// the rows below hold L_bot, and `perm[i]` is the column of the input that became
 /// column i. The strict upper triangle of the top is zeroed.
-pub fn factor_in_place(
-    mut a: MatMut<'_, c64>,
+pub fn factor_in_place<T: FactorScalar>(
+    a: MatMut<'_, T>,
     perm: &mut [u32],
-    subdiag: &mut [c64],
+    subdiag: &mut [T],
     par: Par,
 ) -> Result<(), ZeroPivot> {
     let (nr, m) = (a.nrows(), a.ncols());
@@ -68,7 +69,67 @@ pub fn factor_in_place(
         perm.len() == m && subdiag.len() == m,
         "pivot arrays of order m"
     );
-    let zero = c64::new(0.0, 0.0);
+    let (mut top, mut bot) = a.split_at_row_mut(m);
+    factor_top(top.as_mut(), perm, subdiag, par)?;
+    if nr > m {
+        // L_bot = A_bot Pᵀ L_top⁻ᵀ D⁻¹: the pivoting's column order, one triangular solve
+        // with the transposed rows, then D⁻¹ by blocks.
+        permute_columns(bot.as_mut(), perm);
+        solve_unit_lower_triangular_in_place(top.as_ref(), bot.as_mut().transpose_mut(), par);
+        scale_by_d_inverse(top.as_ref(), subdiag, bot);
+    }
+    Ok(())
+}
+
+/// Column i of `a` becomes its column `perm[i]`.
+fn permute_columns<T: FactorScalar>(mut a: MatMut<'_, T>, perm: &[u32]) {
+    let mut row = Vec::with_capacity(perm.len());
+    for i in 0..a.nrows() {
+        row.clear();
+        row.extend(perm.iter().map(|&p| a[(i, p as usize)]));
+        for (j, &v) in row.iter().enumerate() {
+            a[(i, j)] = v;
+        }
+    }
+}
+
+/// Rows x of `bot` become x D⁻¹ (D: the diagonal of `top` and the 2×2 blocks' `subdiag`).
+fn scale_by_d_inverse<T: FactorScalar>(top: MatRef<'_, T>, subdiag: &[T], mut bot: MatMut<'_, T>) {
+    let (one, zero) = (T::from(1.0), T::from(0.0));
+    let m = top.ncols();
+    let mut k = 0;
+    while k < m {
+        if subdiag[k] == zero {
+            let r = one / top[(k, k)];
+            for i in 0..bot.nrows() {
+                bot[(i, k)] *= r;
+            }
+            k += 1;
+        } else {
+            // zlasyf's scaled form, as in `pivot_step`.
+            let b = subdiag[k];
+            let d11 = top[(k + 1, k + 1)] / b;
+            let d22 = top[(k, k)] / b;
+            let d21 = one / (d11 * d22 - one) / b;
+            for i in 0..bot.nrows() {
+                let (x, y) = (bot[(i, k)], bot[(i, k + 1)]);
+                bot[(i, k)] = d21 * (d11 * x - y);
+                bot[(i, k + 1)] = d21 * (d22 * y - x);
+            }
+            k += 2;
+        }
+    }
+}
+
+/// Factorise the m × m top (its lower triangle) in place, as [`factor_in_place`] does.
+fn factor_top<T: FactorScalar>(
+    mut a: MatMut<'_, T>,
+    perm: &mut [u32],
+    subdiag: &mut [T],
+    par: Par,
+) -> Result<(), ZeroPivot> {
+    let m = a.ncols();
+    let zero = T::from(0.0);
     for j in 0..m {
         for i in j + 1..m {
             a[(j, i)] = a[(i, j)];
@@ -79,7 +140,7 @@ pub fn factor_in_place(
     }
     subdiag.fill(zero);
     let nb = PANEL.min(m).max(2);
-    let mut w = Mat::<c64>::zeros(nr, nb);
+    let mut w = Mat::<T>::zeros(m, nb);
     let mut k = 0;
     while k < m {
         let start = k;
@@ -89,17 +150,28 @@ pub fn factor_in_place(
             k += kstep;
         }
         if k < m {
-            // Trailing update A[k.., k..m] −= L[k.., panel] W[k..m, panel]ᵀ.
+            // Trailing update A[k.., k..] −= L[k.., panel] W[k.., panel]ᵀ, symmetric: the
+            // lower triangle by one product, then mirrored (the pivot search and the
+            // swaps read whole columns).
             let kb = k - start;
-            let (done, mut rest) = a.as_mut().split_at_col_mut(k);
-            matmul(
-                rest.as_mut().subrows_mut(k, nr - k),
+            let (done, rest) = a.as_mut().split_at_col_mut(k);
+            let mut trail = rest.subrows_mut(k, m - k);
+            triangular::matmul(
+                trail.as_mut(),
+                BlockStructure::TriangularLower,
                 Accum::Add,
-                done.as_ref().submatrix(k, start, nr - k, kb),
+                done.as_ref().submatrix(k, start, m - k, kb),
+                BlockStructure::Rectangular,
                 w.as_ref().submatrix(k, 0, m - k, kb).transpose(),
-                c64::new(-1.0, 0.0),
+                BlockStructure::Rectangular,
+                T::from(-1.0),
                 par,
             );
+            for j in 0..m - k {
+                for i in j + 1..m - k {
+                    trail[(j, i)] = trail[(i, j)];
+                }
+            }
         }
     }
     for j in 0..m {
@@ -112,9 +184,9 @@ pub fn factor_in_place(
 
 /// W[k.., col] = A[k.., c] − L[k.., start..k] W[c, ..k−start]ᵀ: column c of the reduced
 /// matrix, from the rows at and below k.
-fn updated_column(
-    a: MatRef<'_, c64>,
-    mut w: MatMut<'_, c64>,
+fn updated_column<T: FactorScalar>(
+    a: MatRef<'_, T>,
+    mut w: MatMut<'_, T>,
     start: usize,
     k: usize,
     c: usize,
@@ -127,13 +199,12 @@ fn updated_column(
     }
     if kw > 0 {
         let (prev, mut out) = w.as_mut().split_at_col_mut(col);
-        let wc = prev.as_ref().submatrix(c, 0, 1, kw).transpose().to_owned();
         matmul(
             out.as_mut().submatrix_mut(k, 0, nr - k, 1),
             Accum::Add,
             a.submatrix(k, start, nr - k, kw),
-            wc.as_ref(),
-            c64::new(-1.0, 0.0),
+            prev.as_ref().submatrix(c, 0, 1, kw).transpose(),
+            T::from(-1.0),
             Par::Seq,
         );
     }
@@ -141,7 +212,7 @@ fn updated_column(
 
 /// Swap unknowns i and j (both ≥ the current column) in the full symmetric top block,
 /// the finished columns' rows and the pattern rows' columns.
-fn swap_symmetric(mut a: MatMut<'_, c64>, i: usize, j: usize) {
+fn swap_symmetric<T: FactorScalar>(mut a: MatMut<'_, T>, i: usize, j: usize) {
     let (nr, m) = (a.nrows(), a.ncols());
     for c in 0..m {
         let t = a[(i, c)];
@@ -157,21 +228,21 @@ fn swap_symmetric(mut a: MatMut<'_, c64>, i: usize, j: usize) {
 
 /// One Bunch–Kaufman step at column k of the panel begun at `start`: choose the pivot,
 /// swap, store L's column(s) and D; returns the pivot order (1 or 2).
-fn pivot_step(
-    mut a: MatMut<'_, c64>,
-    mut w: MatMut<'_, c64>,
+fn pivot_step<T: FactorScalar>(
+    mut a: MatMut<'_, T>,
+    mut w: MatMut<'_, T>,
     start: usize,
     k: usize,
     perm: &mut [u32],
-    subdiag: &mut [c64],
+    subdiag: &mut [T],
 ) -> Result<usize, ZeroPivot> {
     let (nr, m) = (a.nrows(), a.ncols());
     let kw = k - start;
     updated_column(a.as_ref(), w.as_mut(), start, k, k, kw);
-    let absakk = cabs1(w[(k, kw)]);
+    let absakk = T::abs1(w[(k, kw)]);
     let (mut imax, mut colmax) = (k, 0.0f64);
     for i in k + 1..m {
-        let v = cabs1(w[(i, kw)]);
+        let v = T::abs1(w[(i, kw)]);
         if v > colmax {
             (imax, colmax) = (i, v);
         }
@@ -185,11 +256,11 @@ fn pivot_step(
         updated_column(a.as_ref(), w.as_mut(), start, k, imax, kw + 1);
         let rowmax = (k..m)
             .filter(|&i| i != imax)
-            .map(|i| cabs1(w[(i, kw + 1)]))
+            .map(|i| T::abs1(w[(i, kw + 1)]))
             .fold(0.0f64, f64::max);
         if absakk >= ALPHA * colmax * (colmax / rowmax) {
             (1, k)
-        } else if cabs1(w[(imax, kw + 1)]) >= ALPHA * rowmax {
+        } else if T::abs1(w[(imax, kw + 1)]) >= ALPHA * rowmax {
             for i in k..nr {
                 w[(i, kw)] = w[(i, kw + 1)];
             }
@@ -208,7 +279,7 @@ fn pivot_step(
         }
         perm.swap(kk, kp);
     }
-    let one = c64::new(1.0, 0.0);
+    let one = T::from(1.0);
     if kstep == 1 {
         let d = w[(k, kw)];
         a[(k, k)] = d;
@@ -230,7 +301,7 @@ fn pivot_step(
             a[(i, k + 1)] = d21 * (d22 * wk1 - wk);
         }
         a[(k, k)] = w[(k, kw)];
-        a[(k + 1, k)] = c64::new(0.0, 0.0);
+        a[(k + 1, k)] = T::from(0.0);
         a[(k + 1, k + 1)] = w[(k + 1, kw + 1)];
         subdiag[k] = b;
     }
@@ -240,6 +311,7 @@ fn pivot_step(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use faer::c64;
     use rand::{Rng, SeedableRng};
 
     fn random_c64(rng: &mut rand_chacha::ChaCha8Rng) -> c64 {

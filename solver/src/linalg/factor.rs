@@ -1,13 +1,18 @@
 //! Sparse symmetric factorisation of the shifted operator A = K − σM.
 //!
-//! A is real symmetric and indefinite (σ lies inside the spectrum). faer's supernodal
-//! symmetric factorisations are used with a fill-reducing ordering: LDLᵀ (fast) or the
-//! Bunch–Kaufman-within-supernode LBLᵀ (pivoted, more robust on indefinite matrices).
+//! A is real symmetric and indefinite (σ lies inside the spectrum). It is factorised with
+//! a fill-reducing ordering by [`super::supernodal_ldlt`] (LDLᵀ with Bunch–Kaufman
+//! pivoting inside supernodes, factorised in parallel over the elimination tree; the
+//! solver's path), or by faer's supernodal LDLᵀ (unpivoted) or intranode LBLᵀ (the same
+//! pivoting, sequential over the supernodes: the reference the parallel factor replaced;
+//! faer's numeric factorisations visit the supernodes in one sequential loop and
+//! parallelise only inside each supernode's dense kernels).
 //! Accuracy of a solve is checked by its residual and improved by iterative refinement
 //! x ← x + A⁻¹(b − Ax) when asked.
 
 use crate::error::{FactorStep, SolverError};
 use crate::linalg::sparse::{spmv, SparseMatrix};
+use crate::linalg::supernodal_ldlt::SupernodalLdlt;
 use crate::linalg::tall_skinny::{column, column_mut};
 use crate::linalg::triangular::{self, LbltFactor, TreeSchedule};
 use faer::dyn_stack::{MemBuffer, MemStack};
@@ -23,13 +28,17 @@ use faer::{Conj, MatMut, Par, Side};
 /// Which symmetric factorisation to use.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum FactorKind {
-    /// LDLᵀ without pivoting.
+    /// faer's LDLᵀ without pivoting.
     Ldlt,
-    /// LDLᵀ with 1×1/2×2 Bunch–Kaufman pivoting inside supernodes.
+    /// LDLᵀ with 1×1/2×2 Bunch–Kaufman pivoting inside supernodes
+    /// ([`super::supernodal_ldlt`], parallel over the elimination tree).
     Lblt,
+    /// faer's intranode LBLᵀ (the same pivoting; sequential over the supernodes).
+    FaerLblt,
 }
 
 enum Numeric {
+    Supernodal(Box<SupernodalLdlt<f64>>),
     Ldlt {
         values: Vec<f64>,
     },
@@ -40,13 +49,14 @@ enum Numeric {
         inv: Vec<u32>,
         /// For the tree-parallel solve (supernodal factors only): the schedule and the
         /// combined permutation (fill-reducing ordering, then pivoting).
-        tree: Option<(TreeSchedule, Vec<u32>)>,
+        tree: Option<Box<(TreeSchedule, Vec<u32>)>>,
     },
 }
 
 /// A factorised real symmetric sparse matrix.
 pub struct SymmetricFactor {
-    symbolic: SymbolicCholesky<u32>,
+    /// faer's symbolic factor (None for [`FactorKind::Lblt`], which keeps its own).
+    symbolic: Option<SymbolicCholesky<u32>>,
     numeric: Numeric,
     par: Par,
     /// Solve workspaces kept between solves: a fresh multi-megabyte buffer per solve
@@ -63,17 +73,26 @@ pub struct SymmetricFactor {
 /// [`crate::budget::memory_limit`] or the allocator refuses it (the factor's values are the largest single allocation of a solve, and a
 /// user's mesh settings decide their size).
 pub fn zeroed(len: usize, workspace: &'static str) -> Result<Vec<f64>, SolverError> {
+    zeroed_of::<f64>(len, workspace)
+}
+
+/// [`zeroed`] for any scalar (f64 or c64 factor values).
+pub fn zeroed_of<T: Copy + From<f64>>(
+    len: usize,
+    workspace: &'static str,
+) -> Result<Vec<T>, SolverError> {
+    let size = std::mem::size_of::<T>();
     let oom = || SolverError::OutOfMemory {
         workspace,
-        bytes: len.saturating_mul(std::mem::size_of::<f64>()),
+        bytes: len.saturating_mul(size),
     };
-    let bytes = len as f64 * std::mem::size_of::<f64>() as f64;
+    let bytes = len as f64 * size as f64;
     if crate::budget::memory_limit().is_some_and(|limit| bytes > limit) {
         return Err(oom());
     }
     let mut v = Vec::new();
     v.try_reserve_exact(len).map_err(|_| oom())?;
-    v.resize(len, 0.0);
+    v.resize(len, T::from(0.0));
     Ok(v)
 }
 
@@ -92,14 +111,40 @@ fn as_faer(a: &SparseMatrix) -> SparseColMatRef<'_, u32, f64> {
 
 impl SymmetricFactor {
     /// Factorise `a` (full symmetric storage), with the fill-reducing `ordering`
-    /// (forward, inverse) if given, else approximate minimum degree.
+    /// (forward, inverse) if given, else approximate minimum degree. `par` sets faer's
+    /// kernels (its factorisations and solves); [`FactorKind::Lblt`] runs on the threads
+    /// of the current rayon pool.
     pub fn new(
         a: &SparseMatrix,
         kind: FactorKind,
         par: Par,
         ordering: Option<(&[u32], &[u32])>,
     ) -> Result<Self, SolverError> {
+        Self::with_threads(a, kind, par, ordering, rayon::current_num_threads())
+    }
+
+    /// As [`Self::new`], with `threads` groups of subtrees factorised concurrently by
+    /// [`FactorKind::Lblt`] (1: its sequential factorisation).
+    pub fn with_threads(
+        a: &SparseMatrix,
+        kind: FactorKind,
+        par: Par,
+        ordering: Option<(&[u32], &[u32])>,
+        threads: usize,
+    ) -> Result<Self, SolverError> {
         let af = as_faer(a);
+        if kind == FactorKind::Lblt {
+            let data = a.data();
+            let f =
+                SupernodalLdlt::new(a, |p| data[p], ordering, threads, FactorStep::NumericLdlt)?;
+            return Ok(Self {
+                symbolic: None,
+                numeric: Numeric::Supernodal(Box::new(f)),
+                par,
+                workspaces: std::sync::Mutex::new(Vec::new()),
+                refine_state: std::sync::atomic::AtomicU8::new(0),
+            });
+        }
         let ord = match ordering {
             Some((fwd, inv)) => SymmetricOrdering::Custom(PermRef::new_checked(fwd, inv, a.rows())),
             None => SymmetricOrdering::Amd,
@@ -141,7 +186,8 @@ impl SymmetricFactor {
                     })?;
                 Numeric::Ldlt { values }
             }
-            FactorKind::Lblt => {
+            FactorKind::Lblt => unreachable!("handled above"),
+            FactorKind::FaerLblt => {
                 let n = a.rows();
                 let mut values = zeroed(len, "factor values")?;
                 let mut subdiag = vec![0.0; n];
@@ -171,7 +217,10 @@ impl SymmetricFactor {
                             .iter()
                             .map(|&d| fill.as_ref().map_or(d, |f| f[d as usize]))
                             .collect();
-                        Some((TreeSchedule::new(sn, rayon::current_num_threads()), perm))
+                        Some(Box::new((
+                            TreeSchedule::new(sn, rayon::current_num_threads()),
+                            perm,
+                        )))
                     }
                     SymbolicCholeskyRaw::Simplicial(_) => None,
                 };
@@ -185,7 +234,7 @@ impl SymmetricFactor {
             }
         };
         Ok(Self {
-            symbolic,
+            symbolic: Some(symbolic),
             numeric,
             par,
             workspaces: std::sync::Mutex::new(Vec::new()),
@@ -195,24 +244,40 @@ impl SymmetricFactor {
 
     /// Number of stored factor entries (a measure of fill and memory).
     pub fn factor_nnz(&self) -> usize {
-        self.symbolic.len_val()
+        match (&self.numeric, &self.symbolic) {
+            (Numeric::Supernodal(f), _) => f.factor_nnz(),
+            (_, Some(symbolic)) => symbolic.len_val(),
+            (_, None) => unreachable!("faer's factors keep their symbolic factor"),
+        }
+    }
+
+    /// faer's symbolic factor (its factorisations only).
+    fn faer_symbolic(&self) -> &SymbolicCholesky<u32> {
+        self.symbolic
+            .as_ref()
+            .expect("faer's factors keep their symbolic factor")
     }
 
     /// Solve A X = B in place (B has any number of columns). A supernodal LBLᵀ factor is
     /// applied tree-parallel ([`triangular`]); otherwise faer's solve runs on the two
     /// halves of the block concurrently.
     pub fn solve_in_place(&self, rhs: MatMut<'_, f64>) {
+        if let Numeric::Supernodal(f) = &self.numeric {
+            f.solve_in_place(rhs);
+            return;
+        }
         if let (
             Numeric::Lblt {
                 values,
                 subdiag,
                 inv,
-                tree: Some((schedule, perm)),
+                tree: Some(tree),
                 ..
             },
             SymbolicCholeskyRaw::Supernodal(symbolic),
-        ) = (&self.numeric, self.symbolic.raw())
+        ) = (&self.numeric, self.faer_symbolic().raw())
         {
+            let (schedule, perm) = &**tree;
             let f = LbltFactor {
                 symbolic,
                 values,
@@ -244,7 +309,9 @@ impl SymmetricFactor {
             Some(pool.swap_remove(i))
         });
         let (cols, mut mem) = pooled.unwrap_or_else(|| {
-            let req = self.symbolic.solve_in_place_scratch::<f64>(k, self.par);
+            let req = self
+                .faer_symbolic()
+                .solve_in_place_scratch::<f64>(k, self.par);
             (k, MemBuffer::new(req))
         });
         self.solve_with(rhs, &mut mem);
@@ -256,8 +323,9 @@ impl SymmetricFactor {
     fn solve_with(&self, rhs: MatMut<'_, f64>, mem: &mut MemBuffer) {
         let stack = MemStack::new(mem);
         match &self.numeric {
+            Numeric::Supernodal(f) => f.solve_in_place(rhs),
             Numeric::Ldlt { values } => {
-                LdltRef::new(&self.symbolic, values).solve_in_place_with_conj(
+                LdltRef::new(self.faer_symbolic(), values).solve_in_place_with_conj(
                     Conj::No,
                     rhs,
                     self.par,
@@ -272,7 +340,7 @@ impl SymmetricFactor {
                 ..
             } => {
                 let perm = PermRef::new_checked(fwd, inv, fwd.len());
-                IntranodeLbltRef::new(&self.symbolic, values, subdiag, perm)
+                IntranodeLbltRef::new(self.faer_symbolic(), values, subdiag, perm)
                     .solve_in_place_with_conj(Conj::No, rhs, self.par, stack);
             }
         }
@@ -353,7 +421,7 @@ mod tests {
         let m = assemble(&space, &[RegionMaterial::VACUUM]);
         let a = combine(&[(1.0, &m.stiffness), (-k0_squared(2.45e9), &m.mass_real)]);
         let ord = nested_dissection(&a).expect("ordering");
-        let f = SymmetricFactor::new(&a, FactorKind::Lblt, Par::Seq, Some((&ord.0, &ord.1)))
+        let f = SymmetricFactor::new(&a, FactorKind::FaerLblt, Par::Seq, Some((&ord.0, &ord.1)))
             .expect("factor");
         assert!(
             matches!(&f.numeric, Numeric::Lblt { tree: Some(_), .. }),

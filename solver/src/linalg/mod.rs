@@ -10,6 +10,7 @@ pub mod eigen;
 pub mod factor;
 pub mod ordering;
 pub mod sparse;
+pub mod supernodal_ldlt;
 pub mod tall_skinny;
 pub mod triangular;
 

@@ -71,10 +71,21 @@ pub trait FactorScalar:
     + std::ops::SubAssign
     + std::ops::MulAssign
 {
+    /// The pivot-search modulus: |x| of a real entry, |re| + |im| of a complex one
+    /// (LAPACK's cabs1, cheaper than the true modulus and as good for choosing pivots).
+    fn abs1(self) -> f64;
 }
 
-impl FactorScalar for f64 {}
-impl FactorScalar for faer::c64 {}
+impl FactorScalar for f64 {
+    fn abs1(self) -> f64 {
+        self.abs()
+    }
+}
+impl FactorScalar for faer::c64 {
+    fn abs1(self) -> f64 {
+        self.re.abs() + self.im.abs()
+    }
+}
 
 /// The numeric factor in the form the solve needs.
 pub struct LbltFactor<'a, T> {
