@@ -36,8 +36,10 @@ pub struct RefinedFactor {
 }
 
 impl RefinedFactor {
-    /// Factorise `matrix` (sequential supernodal kernels: faster than faer's threaded
-    /// ones on two cores) with the fill-reducing `ordering` (forward, inverse) if given.
+    /// Factorise `matrix` with the fill-reducing `ordering` (forward, inverse) if given.
+    /// The default pivoted factor (`linalg::supernodal_ldlt`) uses the rayon pool's
+    /// threads itself (subtrees, then the top supernodes' products); `Par::Seq` here only
+    /// governs faer's reference factorisations.
     pub fn new(
         matrix: SparseMatrix,
         kind: FactorKind,
