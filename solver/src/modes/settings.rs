@@ -3,7 +3,9 @@
 
 use crate::error::SolverError;
 use crate::fem::assembly::RegionMaterial;
+use crate::fem::curved::CurvedBoundary;
 use crate::fem::port::PortFrame;
+use std::sync::Arc;
 use crate::fem::NedelecOrder;
 use crate::linalg::eigen::{EigenOptions, EigenProgress};
 use crate::linalg::factor::FactorKind;
@@ -35,6 +37,9 @@ pub struct ModeSettings {
     pub wall_conductivity: Option<f64>,
     /// Feed ports (matched TE10 apertures); their faces are PEC when this is empty.
     pub ports: Vec<PortFrame>,
+    /// Curved surfaces and the faces on them: tetrahedra there get curved geometry maps
+    /// ([`crate::fem::curved`]); empty = every tetrahedron straight.
+    pub curved: Arc<CurvedBoundary>,
 }
 
 impl ModeSettings {
@@ -56,6 +61,7 @@ impl ModeSettings {
             max_modes: 400,
             wall_conductivity: None,
             ports: Vec::new(),
+            curved: Arc::default(),
         }
     }
 
