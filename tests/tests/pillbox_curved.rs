@@ -155,3 +155,18 @@ fn sweep(order: NedelecOrder, sizes: &[f64], min_rate: f64) {
 fn pillbox_curved_order2_rate() {
     sweep(NedelecOrder::Two, &[60.0, 42.0, 30.0], 3.0);
 }
+
+/// Order 3 on two meshes: rate ≥ 5 (expected 6; see the module docs). (The 60 mm mesh
+/// is not yet asymptotic for TM010: 60 → 45 mm gave 4.7; see the ignored sweep.)
+#[test]
+fn pillbox_curved_order3_rate() {
+    sweep(NedelecOrder::Three, &[45.0, 34.0], 5.0);
+}
+
+/// Heavier sweeps: order 2 to 15 mm, order 3 to 25 mm.
+#[test]
+#[ignore]
+fn pillbox_curved_rates_fine() {
+    sweep(NedelecOrder::Two, &[30.0, 21.0, 15.0], 3.0);
+    sweep(NedelecOrder::Three, &[34.0, 25.0], 5.0);
+}
