@@ -76,8 +76,13 @@ fn pillbox_volume_converges_by_degree() {
     }
     let (h1, e1) = rows[1];
     let (h2, e2) = rows[2];
-    let rates: Vec<f64> = (0..3).map(|i| observed_order(e1[i], h1, e2[i], h2)).collect();
-    println!("observed orders: polygon {:.2}, q2 {:.2}, q3 {:.2}", rates[0], rates[1], rates[2]);
+    let rates: Vec<f64> = (0..3)
+        .map(|i| observed_order(e1[i], h1, e2[i], h2))
+        .collect();
+    println!(
+        "observed orders: polygon {:.2}, q2 {:.2}, q3 {:.2}",
+        rates[0], rates[1], rates[2]
+    );
     assert!(rates[1] >= 3.0, "q = 2 volume order {:.2} < 3", rates[1]);
     assert!(rates[2] >= 5.0, "q = 3 volume order {:.2} < 5", rates[2]);
 }
@@ -141,8 +146,15 @@ fn identity_map_reproduces_exact_matrices() {
             g.matrices(&element, &geo, &c, &mut k1, &mut m1);
             for (a, b) in [(&k0, &k1), (&m0, &m1)] {
                 let scale = a.iter().fold(0.0f64, |s, v| s.max(v.abs()));
-                let diff = a.iter().zip(b).fold(0.0f64, |s, (x, y)| s.max((x - y).abs()));
-                assert!(diff <= 1e-12 * scale, "order {}: {diff:e} of {scale:e}", order.as_int());
+                let diff = a
+                    .iter()
+                    .zip(b)
+                    .fold(0.0f64, |s, (x, y)| s.max((x - y).abs()));
+                assert!(
+                    diff <= 1e-12 * scale,
+                    "order {}: {diff:e} of {scale:e}",
+                    order.as_int()
+                );
             }
         }
     }

@@ -43,6 +43,9 @@
 //! h = 17 mm. The degree is q = 2 for orders 1–2 and q = 3 for order 3
 //! ([`geometry_degree`]).
 
+// Index loops over 3- and 4-vectors read closer to the formulas here.
+#![allow(clippy::needless_range_loop)]
+
 use crate::error::SolverError;
 use crate::fem::element::{NedelecTet, EDGES, FACES, MAX_LOCAL};
 use crate::fem::quadrature::{tet_rule, triangle_rule, SimplexRule};
@@ -428,12 +431,14 @@ impl CurvedGeometry {
         let mut edges: HashMap<(u32, u32), u32> = HashMap::new();
         let mut faces: HashMap<[u32; 3], u32> = HashMap::new();
         for &(key, s) in &boundary.faces {
-            let surface = boundary.surfaces.get(s as usize).ok_or(
-                SolverError::CurvedSurfaceMissing {
-                    surface: s as usize,
-                    surfaces: boundary.surfaces.len(),
-                },
-            )?;
+            let surface =
+                boundary
+                    .surfaces
+                    .get(s as usize)
+                    .ok_or(SolverError::CurvedSurfaceMissing {
+                        surface: s as usize,
+                        surfaces: boundary.surfaces.len(),
+                    })?;
             let on: [bool; 3] = key.map(|v| on_surface(surface, mesh.nodes[v as usize]));
             if on.iter().all(|&b| b) {
                 let mut k = key;

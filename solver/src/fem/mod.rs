@@ -26,9 +26,9 @@ pub use element::NedelecOrder;
 
 use antinode_mesh::{BoundaryTag, TetMesh};
 use curved::{CurvedBoundary, CurvedGeometry, CurvedTet};
+use dofmap::DofMap;
 use element::NedelecTet;
 use std::sync::Arc;
-use dofmap::DofMap;
 use tet_geometry::TetGeometry;
 use topology::Topology;
 

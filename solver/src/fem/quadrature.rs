@@ -120,10 +120,15 @@ mod tests {
                             .points
                             .iter()
                             .zip(&r.weights)
-                            .map(|(l, w)| w * l[0].powi(a as i32) * l[1].powi(b as i32) * l[2].powi(c as i32))
+                            .map(|(l, w)| {
+                                w * l[0].powi(a as i32) * l[1].powi(b as i32) * l[2].powi(c as i32)
+                            })
                             .sum();
                         let exact = tet_monomial_integral(e);
-                        assert!((s - exact).abs() < 1e-13 * exact.max(1e-3), "n {n} {e:?}: {s} vs {exact}");
+                        assert!(
+                            (s - exact).abs() < 1e-13 * exact.max(1e-3),
+                            "n {n} {e:?}: {s} vs {exact}"
+                        );
                     }
                 }
             }

@@ -155,8 +155,8 @@ pub fn solve_modes<'m>(
     settings.validate(mesh, materials)?;
     progress(Stage::Topology);
     let t0 = Instant::now();
-    let space =
-        Space::with_ports(mesh, settings.order, settings.ports.len()).with_curved(&settings.curved)?;
+    let space = Space::with_ports(mesh, settings.order, settings.ports.len())
+        .with_curved(&settings.curved)?;
     if space.n_dofs() == 0 {
         return Err(SolverError::NoUnknowns);
     }

@@ -5,12 +5,12 @@ use crate::error::SolverError;
 use crate::fem::assembly::RegionMaterial;
 use crate::fem::curved::CurvedBoundary;
 use crate::fem::port::PortFrame;
-use std::sync::Arc;
 use crate::fem::NedelecOrder;
 use crate::linalg::eigen::{EigenOptions, EigenProgress};
 use crate::linalg::factor::FactorKind;
 use crate::modes::operator::ComplexForm;
 use antinode_mesh::TetMesh;
+use std::sync::Arc;
 
 /// What to solve for.
 #[derive(Clone, Debug)]

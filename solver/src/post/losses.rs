@@ -114,7 +114,9 @@ pub fn mode_integrals(space: &Space<'_>, modes: &[(&[f64], &[f64])]) -> Vec<Mode
                 }
                 for &lf in &wall_faces {
                     match (&space.curved, space.curved_tet(t)) {
-                        (Some(g), Some(c)) => g.face_curl_matrix(&element, &geo, &x, c, lf, &mut kc),
+                        (Some(g), Some(c)) => {
+                            g.face_curl_matrix(&element, &geo, &x, c, lf, &mut kc)
+                        }
                         _ => {
                             let (normal, area) = face_normal_area(&x, lf);
                             element.face_matrices(&geo, lf, area, normal, &mut mm, &mut kc);
