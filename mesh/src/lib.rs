@@ -22,6 +22,6 @@ pub mod vtk;
 pub mod water;
 
 pub use geometry::Geometry;
-pub use make::make_mesh;
+pub use make::{make_mesh, make_mesh_curved};
 pub use material::Material;
 pub use tet_mesh::{BoundaryTag, RegionInfo, TetMesh};

@@ -3,7 +3,7 @@
 
 use crate::geometry::Geometry;
 use crate::gmsh::{check_fit, import_msh, ImportError};
-use crate::mesher::{mesh_geometry, MesherError};
+use crate::mesher::{mesh_geometry, mesh_geometry_curved, CurvedMesh, MesherError};
 use crate::tet_mesh::TetMesh;
 
 /// Why no mesh could be made.
@@ -27,5 +27,19 @@ pub fn make_mesh(geom: &Geometry) -> Result<TetMesh, MakeMeshError> {
             check_fit(&mesh, &geom.cavity.shape, &import.file)?;
             Ok(mesh)
         }
+    }
+}
+
+/// [`make_mesh`] with the curved surfaces the built-in mesher follows and the faces on
+/// them; an imported mesh carries none (its faces are taken as they are: straight).
+pub fn make_mesh_curved(geom: &Geometry) -> Result<CurvedMesh, MakeMeshError> {
+    match &geom.mesh.import {
+        None => Ok(mesh_geometry_curved(geom)?),
+        Some(_) => Ok(CurvedMesh {
+            mesh: make_mesh(geom)?,
+            surfaces: Vec::new(),
+            surface_faces: Vec::new(),
+            projections_undone: 0,
+        }),
     }
 }

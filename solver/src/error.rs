@@ -120,4 +120,17 @@ pub enum SolverError {
     /// The drive lists a different number of port amplitudes than there are ports.
     #[error("the drive gives {given} port amplitudes for {ports} ports")]
     DriveMismatch { given: usize, ports: usize },
+    /// A curved tetrahedron's geometry map is not invertible everywhere.
+    #[error(
+        "curved tetrahedron {tet}: its geometry map folds (det J = {min_det:e} at a \
+         quadrature point) because the mesh is too coarse for the curvature of a cylinder \
+         side; use a smaller mesh size near the cylinder, or turn curved elements off"
+    )]
+    CurvedElementInverted { tet: usize, min_det: f64 },
+    /// A face handed over as curved names a surface that is not in the list.
+    #[error(
+        "a curved face names surface {surface} but only {surfaces} surfaces were handed \
+         over; pass the mesher's surfaces together with its faces"
+    )]
+    CurvedSurfaceMissing { surface: usize, surfaces: usize },
 }

@@ -75,6 +75,17 @@ pub fn make(geom: &Geometry) -> Result<(TetMesh, f64)> {
     Ok((mesh, t0.elapsed().as_secs_f64()))
 }
 
+/// [`make`] with the curved surfaces (cylinder sides) and the faces on them, for curved
+/// elements; an imported mesh has none.
+pub fn make_curved(geom: &Geometry) -> Result<(antinode_mesh::mesher::CurvedMesh, f64)> {
+    let spinner = Spinner::start("meshing");
+    let t0 = Instant::now();
+    let mesh = antinode_mesh::make_mesh_curved(geom);
+    spinner.finish();
+    let mesh = mesh.context("meshing failed")?;
+    Ok((mesh, t0.elapsed().as_secs_f64()))
+}
+
 pub fn run(args: &MeshArgs) -> Result<()> {
     let t0 = Instant::now();
     let mut geom = super::load_geometry(&args.geometry)?;

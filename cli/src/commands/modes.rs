@@ -74,6 +74,10 @@ pub struct ModesArgs {
     /// Solve even when the memory estimate exceeds the memory available.
     #[arg(long)]
     pub allow_large: bool,
+    /// Keep every tetrahedron straight (cylinder sides as the meshed polygon) instead of
+    /// curving the elements on them; for comparison.
+    #[arg(long)]
+    pub straight: bool,
     /// Plan only: mesh, count the unknowns, estimate memory and time, then stop (writes
     /// nothing).
     #[arg(long)]
@@ -122,7 +126,15 @@ pub fn run_with(
             &args.geometry,
         ))?),
     };
-    let (mesh, mesh_s) = super::mesh::make(&geom)?;
+    let (curved_mesh, mesh_s) = super::mesh::make_curved(&geom)?;
+    let mesh = curved_mesh.mesh;
+    let mut settings = settings;
+    if !args.straight {
+        settings.curved = std::sync::Arc::new(antinode_solver::fem::curved::CurvedBoundary {
+            surfaces: curved_mesh.surfaces,
+            faces: curved_mesh.surface_faces,
+        });
+    }
 
     let (plan, avail) = check_plan(args, &mesh, &mats, &settings)?;
     let Some(out) = out else {

@@ -159,8 +159,7 @@ fn fill(
             .zip(buf_m[..(end - start) * nl * nl].par_chunks_mut(nl * nl))
             .enumerate()
             .for_each(|(i, (ke, me))| {
-                let geo = space.tet_geometry(start + i);
-                element.matrices(&geo, ke, me);
+                space.element_matrices(&element, start + i, ke, me);
             });
         // Split value arrays by row ranges so each part owns its rows' values.
         let mut k_parts = split_by_rows(&mut k, indptr, &row_bounds);

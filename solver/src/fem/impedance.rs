@@ -171,6 +171,7 @@ impl<'m> Space<'m> {
             mesh,
             topology,
             dofs,
+            curved: None,
         }
     }
 }

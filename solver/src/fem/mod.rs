@@ -14,17 +14,22 @@
 
 pub mod assembly;
 pub mod barycentric;
+pub mod curved;
 pub mod dofmap;
 pub mod element;
 pub mod impedance;
 pub mod port;
+pub mod quadrature;
 pub mod tet_geometry;
 pub mod topology;
 
 pub use element::NedelecOrder;
 
 use antinode_mesh::{BoundaryTag, TetMesh};
+use curved::{CurvedBoundary, CurvedGeometry, CurvedTet};
 use dofmap::DofMap;
+use element::NedelecTet;
+use std::sync::Arc;
 use tet_geometry::TetGeometry;
 use topology::Topology;
 
@@ -35,6 +40,8 @@ pub struct Space<'m> {
     pub mesh: &'m TetMesh,
     pub topology: Topology,
     pub dofs: DofMap,
+    /// Curved tetrahedra along the cylinder sides (None: every tetrahedron straight).
+    pub curved: Option<Arc<CurvedGeometry>>,
 }
 
 impl<'m> Space<'m> {
@@ -51,6 +58,49 @@ impl<'m> Space<'m> {
             mesh,
             topology,
             dofs,
+            curved: None,
+        }
+    }
+
+    /// The space with the tetrahedra along `boundary`'s surfaces curved (see
+    /// [`curved`]); an empty boundary leaves every tetrahedron straight.
+    pub fn with_curved(mut self, boundary: &CurvedBoundary) -> Result<Self, crate::SolverError> {
+        if boundary.faces.is_empty() {
+            self.curved = None;
+            return Ok(self);
+        }
+        let g = CurvedGeometry::new(self.mesh, &self.topology, self.order(), boundary)?;
+        self.curved = (g.n_curved() > 0).then(|| Arc::new(g));
+        Ok(self)
+    }
+
+    /// The curved data of tetrahedron `t` (None when straight).
+    pub fn curved_tet(&self, t: usize) -> Option<&CurvedTet> {
+        self.curved.as_ref().and_then(|c| c.tet(t))
+    }
+
+    /// Element matrices (∫ ∇×φa·∇×φb, ∫ φa·φb) of tetrahedron `t`: exact on straight
+    /// tetrahedra, by quadrature of the mapped functions on curved ones.
+    pub fn element_matrices(
+        &self,
+        element: &NedelecTet,
+        t: usize,
+        curl_out: &mut [f64],
+        mass_out: &mut [f64],
+    ) {
+        let geo = self.tet_geometry(t);
+        match (&self.curved, self.curved_tet(t)) {
+            (Some(g), Some(c)) => g.matrices(element, &geo, c, curl_out, mass_out),
+            _ => element.matrices(&geo, curl_out, mass_out),
+        }
+    }
+
+    /// Volume of tetrahedron `t` (of the curved one where curved).
+    pub fn tet_volume(&self, t: usize) -> f64 {
+        let geo = self.tet_geometry(t);
+        match (&self.curved, self.curved_tet(t)) {
+            (Some(g), Some(c)) => g.volume(c, &geo),
+            _ => geo.volume,
         }
     }
 

@@ -162,7 +162,7 @@ pub fn solve_modes<'m>(
     settings.validate(mesh, materials)?;
     progress(Stage::Topology);
     let t0 = Instant::now();
-    let space = settings.space(mesh);
+    let space = settings.space(mesh).with_curved(&settings.curved)?;
     if space.n_dofs() == 0 {
         return Err(SolverError::NoUnknowns);
     }

@@ -3,6 +3,7 @@
 
 use crate::error::SolverError;
 use crate::fem::assembly::RegionMaterial;
+use crate::fem::curved::CurvedBoundary;
 use crate::fem::impedance::WallLosses;
 use crate::fem::port::PortFrame;
 use crate::fem::{NedelecOrder, Space};
@@ -10,6 +11,7 @@ use crate::linalg::eigen::{EigenOptions, EigenProgress};
 use crate::linalg::factor::FactorKind;
 use crate::modes::operator::ComplexForm;
 use antinode_mesh::TetMesh;
+use std::sync::Arc;
 
 /// What to solve for.
 #[derive(Clone, Debug)]
@@ -39,6 +41,9 @@ pub struct ModeSettings {
     pub wall_losses: WallLosses,
     /// Feed ports (matched TE10 apertures); their faces are PEC when this is empty.
     pub ports: Vec<PortFrame>,
+    /// Curved surfaces and the faces on them: tetrahedra there get curved geometry maps
+    /// ([`crate::fem::curved`]); empty = every tetrahedron straight.
+    pub curved: Arc<CurvedBoundary>,
 }
 
 impl ModeSettings {
@@ -61,6 +66,7 @@ impl ModeSettings {
             wall_conductivity: None,
             wall_losses: WallLosses::default(),
             ports: Vec::new(),
+            curved: Arc::default(),
         }
     }
 

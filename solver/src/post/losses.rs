@@ -112,7 +112,7 @@ pub fn mode_integrals(space: &Space<'_>, modes: &[(&[f64], &[f64])]) -> Vec<Mode
             |(mut acc, mut kc, mut mm, mut xl), t| {
                 let x = space.tet_vertices(t);
                 let geo = space.tet_geometry(t);
-                element.matrices(&geo, &mut kc, &mut mm);
+                space.element_matrices(&element, t, &mut kc, &mut mm);
                 let td = dofs.of_tet(t);
                 let region = mesh.tet_region[t] as usize;
                 let wall_faces: Vec<usize> = (0..4)
@@ -126,8 +126,20 @@ pub fn mode_integrals(space: &Space<'_>, modes: &[(&[f64], &[f64])]) -> Vec<Mode
                     acc[mi].region_e2[region] += quad_form(&mm, nl, xr) + quad_if(&mm, nl, im, xi);
                 }
                 for &lf in &wall_faces {
-                    let (normal, area) = face_normal_area(&x, lf);
-                    element.face_matrices(&geo, lf, area, normal, &mut mm, &mut kc);
+                    match (&space.curved, space.curved_tet(t)) {
+                        (Some(g), Some(c)) => {
+                            // ∮|n×E|² on the straight face (the impedance walls' term in
+                            // the solve is assembled on straight faces too); ∮|n×∇×E|² on
+                            // the curved one.
+                            let (normal, area) = face_normal_area(&x, lf);
+                            element.face_matrices(&geo, lf, area, normal, &mut mm, &mut kc);
+                            g.face_curl_matrix(&element, &geo, &x, c, lf, &mut kc)
+                        }
+                        _ => {
+                            let (normal, area) = face_normal_area(&x, lf);
+                            element.face_matrices(&geo, lf, area, normal, &mut mm, &mut kc);
+                        }
+                    }
                     for (mi, &(re, im)) in modes.iter().enumerate() {
                         let (xr, xi) = xl.split_at_mut(nl);
                         gather(td, re, im, xr, xi);
