@@ -128,7 +128,6 @@ pub fn run_with(
     };
     let (curved_mesh, mesh_s) = super::mesh::make_curved(&geom)?;
     let mesh = curved_mesh.mesh;
-    let mut settings = settings;
     if !args.straight {
         settings.curved = std::sync::Arc::new(antinode_solver::fem::curved::CurvedBoundary {
             surfaces: curved_mesh.surfaces,

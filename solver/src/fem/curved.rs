@@ -37,7 +37,7 @@
 //! O(h⁴), but for q = 3 it does not cancel and the eigenvalues stall at O(h⁴) (measured:
 //! TM010 at order 3 went 1.1e-4 → 3.3e-5 from h = 23 to 17 mm). So the edge curves
 //! interpolate at Gauss–Lobatto points and a curved face's centre node is set for zero
-//! mean gap ([`tet_nodes`]); with that the mapped pillbox volume converges like h⁶ and the
+//! mean gap (function `tet_nodes`); with that the mapped pillbox volume converges like h⁶ and the
 //! order-3 eigenvalues at rate ≈ 6. Equispaced interior nodes left at zero displacement
 //! (no blending) were worse still: q = 4 that way gave TM010 errors of 3e-4 at
 //! h = 17 mm. The degree is q = 2 for orders 1–2 and q = 3 for order 3
