@@ -34,15 +34,13 @@ use super::affine::{AffineSystem, Source, Term};
 use crate::constants::{C0, MU0};
 use crate::error::SolverError;
 use crate::fem::assembly::{assemble, RegionMaterial};
-use crate::fem::dofmap::FIXED;
-use crate::fem::element::NedelecTet;
+use crate::fem::impedance::{wall_face_matrix, WallIntegral};
 use crate::fem::port::{port_constraint, PortConstraint, PortFrame, Reduction};
-use crate::fem::tet_geometry::face_normal_area;
 use crate::fem::{NedelecOrder, Space};
 use crate::linalg::sparse::{diagonal, SparseMatrix};
 use crate::modes::system::{order_matrix, TimedOrdering};
 use crate::post::losses::surface_resistance;
-use antinode_mesh::{BoundaryTag, TetMesh};
+use antinode_mesh::TetMesh;
 use faer::c64;
 use std::time::Instant;
 
@@ -89,36 +87,6 @@ fn without_zeros(a: &SparseMatrix) -> SparseMatrix {
     for (v, (i, j)) in a.iter() {
         if *v != 0.0 {
             tri.add_triplet(i as usize, j as usize, *v);
-        }
-    }
-    tri.to_csr()
-}
-
-/// W_ab = ∮_walls (n̂ × ∇×φ_a)·(n̂ × ∇×φ_b) dS on the space's free unknowns.
-pub fn wall_matrix(space: &Space<'_>) -> SparseMatrix {
-    let element = NedelecTet::new(space.order());
-    let nl = element.len();
-    let topo = &space.topology;
-    let (mut mass, mut curl) = (vec![0.0; nl * nl], vec![0.0; nl * nl]);
-    let n = space.n_dofs();
-    let mut tri = sprs::TriMatI::<f64, u32>::new((n, n));
-    for t in 0..space.n_tets() {
-        for lf in 0..4 {
-            if topo.face_tag[topo.tet_faces[t][lf] as usize] != Some(BoundaryTag::Wall) {
-                continue;
-            }
-            let x = space.tet_vertices(t);
-            let geo = space.tet_geometry(t);
-            let (normal, area) = face_normal_area(&x, lf);
-            element.face_matrices(&geo, lf, area, normal, &mut mass, &mut curl);
-            let td = space.dofs.of_tet(t);
-            for a in 0..nl {
-                for b in 0..nl {
-                    if td[a] != FIXED && td[b] != FIXED && curl[a * nl + b] != 0.0 {
-                        tri.add_triplet(td[a] as usize, td[b] as usize, curl[a * nl + b]);
-                    }
-                }
-            }
         }
     }
     tri.to_csr()
@@ -172,7 +140,8 @@ impl<'m> DrivenOperator<'m> {
             region_mass.push(reduction.reduce(&without_zeros(&sys.mass_real)));
         }
         let stiffness = stiffness.ok_or(SolverError::NoUnknowns)?;
-        let wall = lossy_walls.then(|| reduction.reduce(&wall_matrix(&space)));
+        let wall = lossy_walls
+            .then(|| reduction.reduce(&wall_face_matrix(&space, WallIntegral::CurlTrace)));
         let n = reduction.n_reduced;
         let port_diag = constraint
             .norm

@@ -98,9 +98,18 @@ pub fn wall_coefficient(k0: f64, conductivity: f64) -> c64 {
     c64::new(g, g)
 }
 
-/// W_E,ab = ∮_walls (n̂×φa)·(n̂×φb) dS on the space's free unknowns (exact face
-/// integrals, [`NedelecTet::face_matrices`]).
-pub fn wall_trace_matrix(space: &Space<'_>) -> SparseMatrix {
+/// Which wall-face integral [`wall_face_matrix`] assembles.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum WallIntegral {
+    /// W_E,ab = ∮_walls (n̂×φa)·(n̂×φb) dS (the impedance term).
+    Trace,
+    /// W_ab = ∮_walls (n̂×∇×φa)·(n̂×∇×φb) dS (the surface-resistance term of `drive`).
+    CurlTrace,
+}
+
+/// The wall-face matrix `which` on the space's free unknowns (exact face integrals,
+/// [`NedelecTet::face_matrices`]).
+pub fn wall_face_matrix(space: &Space<'_>, which: WallIntegral) -> SparseMatrix {
     let element = NedelecTet::new(space.order());
     let nl = element.len();
     let topo = &space.topology;
@@ -116,10 +125,14 @@ pub fn wall_trace_matrix(space: &Space<'_>) -> SparseMatrix {
             let geo = space.tet_geometry(t);
             let (normal, area) = face_normal_area(&x, lf);
             element.face_matrices(&geo, lf, area, normal, &mut mass, &mut curl);
+            let m = match which {
+                WallIntegral::Trace => &mass,
+                WallIntegral::CurlTrace => &curl,
+            };
             let td = space.dofs.of_tet(t);
             for a in 0..nl {
                 for b in 0..nl {
-                    let v = mass[a * nl + b];
+                    let v = m[a * nl + b];
                     if td[a] != FIXED && td[b] != FIXED && v != 0.0 {
                         tri.add_triplet(td[a] as usize, td[b] as usize, v);
                     }
@@ -197,7 +210,7 @@ impl ImpedanceWalls {
         conductivity: f64,
         k_target: f64,
     ) -> Self {
-        let full = wall_trace_matrix(space);
+        let full = wall_face_matrix(space, WallIntegral::Trace);
         let reduced = match reduction {
             Some(r) => r.reduce(&full),
             None => full.clone(),
