@@ -142,3 +142,62 @@ steps = 4
         "averaged {avg}, fixed-angle mean {fixed}"
     );
 }
+
+#[test]
+fn a_load_passing_over_a_port_aperture_is_refused_with_load_port_and_angle() {
+    // The box fed through its floor, aperture x = 120 .. 206.36, y = 98.41 .. 141.59 mm;
+    // the dish on the floor (x = 20 .. 80) turned a half turn about (120, 120) covers
+    // x = 160 .. 220, y = 100 .. 140, inside the aperture (plane rotation by hand).
+    let dir = common::scratch("turntable", "aperture");
+    let geometry = BOX.replace(
+        "wall = \"+z\"\ncenter = [120.0, 120.0]",
+        "wall = \"-z\"\ncenter = [163.18, 120.0]",
+    );
+    assert_ne!(geometry, BOX);
+    std::fs::write(
+        dir.join("g.toml"),
+        format!(
+            "{geometry}{}",
+            r#"
+[[load]]
+name = "dish"
+shape = "box"
+min = [20.0, 100.0, 0.0]
+max = [80.0, 140.0, 30.0]
+material = { permittivity = 4.0, loss_tangent = 0.1 }
+[turntable]
+center = [120.0, 120.0]
+steps = 4
+"#
+        ),
+    )
+    .unwrap();
+    let s = dir.join("s.toml");
+    std::fs::write(&s, "geometry = \"g.toml\"\nrun = [\"drive\"]\n").unwrap();
+    let out = dir.join("out");
+    let o = antinode(&["sweep", s.to_str().unwrap(), "-o", out.to_str().unwrap()]);
+    let stdout = text(&o.stdout);
+    assert!(
+        stdout.contains("4 variants, 4 rejected")
+            && stdout.contains("plate angle 180°")
+            && stdout.contains("load \"dish\" reaches into the aperture of port \"feed\""),
+        "stdout {stdout} stderr {}",
+        text(&o.stderr)
+    );
+    // Nothing ran.
+    assert!(!out.join("variants/v001/done.json").exists());
+    // `mesh` refuses the geometry itself with the same reason.
+    let m = antinode(&[
+        "mesh",
+        dir.join("g.toml").to_str().unwrap(),
+        "-o",
+        out.join("mesh").to_str().unwrap(),
+    ]);
+    assert!(!m.status.success());
+    assert!(
+        text(&m.stderr).contains("port \"feed\""),
+        "{}",
+        text(&m.stderr)
+    );
+    let _ = std::fs::remove_dir_all(&dir);
+}
