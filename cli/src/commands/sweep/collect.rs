@@ -158,8 +158,7 @@ pub fn collect(sweep: &SweepFile, dir: &Path, variants: &[Variant]) -> Result<()
     };
     let json = serde_json::to_string_pretty(&doc)?;
     tables::write_atomic(&dir.join("sweep.json"), json.as_bytes())?;
-    let svg = plot::svg(sweep, variants, &modes, &at);
-    tables::write_atomic(&dir.join("sweep.svg"), svg.as_bytes())?;
+    let mut plate_plot = Vec::new();
     if sweep.plate_angles.is_some() && sweep.run.contains(&RunKind::Drive) {
         let plate: Vec<Option<super::plate::AngleResult>> = variants
             .iter()
@@ -170,8 +169,10 @@ pub fn collect(sweep: &SweepFile, dir: &Path, variants: &[Variant]) -> Result<()
                     .flatten()
             })
             .collect();
-        super::plate::collect(sweep, dir, variants, &plate)?;
+        plate_plot = super::plate::collect(sweep, dir, variants, &plate)?;
     }
+    let svg = plot::svg(sweep, variants, &modes, &at, &plate_plot);
+    tables::write_atomic(&dir.join("sweep.svg"), svg.as_bytes())?;
     let done = doc.variants.iter().filter(|e| e.status == "done").count();
     println!(
         "{done} of {} variants done; wrote {}/sweep.csv, sweep.json and sweep.svg",
