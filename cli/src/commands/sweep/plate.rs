@@ -27,6 +27,9 @@ use std::path::Path;
 /// angle's samples at them.
 type KeptSamples = (Vec<usize>, Vec<Vec<f64>>);
 
+/// The sampling of `plate_samples.json` (part of a turntable variant's content hash).
+pub const SAMPLING: &str = "field density at the load-frame grid points";
+
 /// `plate_samples.json` of one variant.
 #[derive(Serialize, Deserialize)]
 pub struct PlateSamplesDoc {

@@ -99,12 +99,18 @@ pub struct Done {
 }
 
 /// SHA-256 of what determines a variant's results: the program version, the geometry
-/// text, the commands and their options.
+/// text, the turntable sampling, the commands and their options.
 pub fn content_hash(sweep: &SweepFile, v: &Variant) -> String {
     let mut h = Sha256::new();
     h.update(env!("CARGO_PKG_VERSION"));
     h.update([0]);
     h.update(&v.text);
+    if v.plate.is_some() {
+        // How a turntable variant samples its heating (results of another sampling are
+        // not reused by --resume).
+        h.update([0]);
+        h.update(super::plate::SAMPLING);
+    }
     for kind in &sweep.run {
         h.update([0]);
         h.update(kind.name());
