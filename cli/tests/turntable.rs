@@ -11,8 +11,10 @@
 //! |COV_avg − COV_θ| by m when the angles' means agree (they do: both angles sample the
 //! same world points). The printed m is the measured mesh noise. Said plainly: that last
 //! check is an internal-consistency one (it fails only if the COV, the average or the
-//! spread is computed wrongly), and on this coarse mesh m is 0.23 (measured
-//! 2026-12-03), so it does not show the equality of the issue to a useful precision;
+//! spread is computed wrongly), and on this coarse mesh m is 0.21 (measured
+//! 2026-12-04 with the heating sampled at the grid points; 0.23 with the former
+//! cell-average sampling), so it does not show the equality of the issue to a useful
+//! precision;
 //! the checks that carry weight are the 1e-9 equalities and (b).
 //! (b) An off-centre box: the averaged COV is below the mean of the fixed-angle COVs (the
 //! triangle inequality gives ≤; the test asks for a strict drop of at least 10 %, our own
