@@ -166,3 +166,55 @@ fn resume_after_a_killed_run_gives_the_same_tables() {
     assert_eq!(a, b);
     std::fs::remove_dir_all(&dir).unwrap();
 }
+
+/// The memory figure of `modes --plan` ("estimated peak memory X (").
+fn modes_plan(geometry: &Path, options: &[&str], out: &Path) -> String {
+    let mut args = vec![
+        "modes",
+        geometry.to_str().unwrap(),
+        "--plan",
+        "-o",
+        out.to_str().unwrap(),
+    ];
+    args.extend_from_slice(options);
+    let o = antinode(&args);
+    let t = text(&o.stdout);
+    let at = t
+        .find("estimated peak memory ")
+        .expect("modes --plan prints its plan")
+        + 22;
+    t[at..at + t[at..].find(" (").unwrap()].to_string()
+}
+
+#[test]
+fn memory_plan_applies_target_and_count() {
+    // The sweep plans each variant with its commands' options: with --target 2.6 and
+    // --count 40 (a finer mesh and a larger basis than the file's 1.3 GHz and 4 modes)
+    // its largest plan is the one `modes --plan` gives with the same options.
+    let dir = scratch_with_base("plan");
+    let s = dir.join("sweep.toml");
+    std::fs::write(
+        &s,
+        "geometry = \"base.toml\"\nrun = [\"modes\"]\n[options]\nmodes = [\"--no-fields\", \
+         \"--target\", \"2.6\", \"--count\", \"40\"]\n[[parameter]]\nkey = \"cavity.size.2\"\n\
+         values = [120.0]\n",
+    )
+    .unwrap();
+    let base = dir.join("base.toml");
+    let with = modes_plan(
+        &base,
+        &["--target", "2.6", "--count", "40"],
+        &dir.join("p1"),
+    );
+    let without = modes_plan(&base, &[], &dir.join("p2"));
+    assert_ne!(with, without, "the options change the plan");
+    let out = dir.join("out");
+    let o = antinode(&["sweep", s.to_str().unwrap(), "-o", out.to_str().unwrap()]);
+    let stdout = text(&o.stdout);
+    assert!(o.status.success(), "{stdout} {}", text(&o.stderr));
+    assert!(
+        stdout.contains(&format!("largest plan {with},")),
+        "expected {with}: {stdout}"
+    );
+    let _ = std::fs::remove_dir_all(&dir);
+}
