@@ -218,3 +218,49 @@ fn memory_plan_applies_target_and_count() {
     );
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+#[test]
+fn tracks_continue_across_the_rows_of_a_two_parameter_grid() {
+    // Widths 200 and 204 mm × heights 120 and 123 mm: the first variant of the second
+    // row (width 204, height 120) continues the tracks of the first row's first variant
+    // (width 200, height 120), one parameter one value apart; before, it started new
+    // tracks. The small steps (2 %) move no mode of this box past another among the
+    // four found (analytic TE/TM_mnp frequencies, Pozar 4th ed. §6.3).
+    let dir = scratch_with_base("grid");
+    let s = dir.join("sweep.toml");
+    std::fs::write(
+        &s,
+        "geometry = \"base.toml\"\nrun = [\"modes\"]\n[options]\nmodes = [\"--no-fields\"]\n\
+         [[parameter]]\nkey = \"cavity.size.0\"\nvalues = [200.0, 204.0]\n\
+         [[parameter]]\nkey = \"cavity.size.2\"\nvalues = [120.0, 123.0]\n",
+    )
+    .unwrap();
+    let out = dir.join("out");
+    let o = antinode(&["sweep", s.to_str().unwrap(), "-o", out.to_str().unwrap()]);
+    assert!(
+        o.status.success(),
+        "{} {}",
+        text(&o.stdout),
+        text(&o.stderr)
+    );
+    let doc: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("sweep.json")).unwrap()).unwrap();
+    let rows = doc["modes"].as_array().unwrap();
+    let of = |v: u64| -> Vec<(u64, Option<f64>)> {
+        rows.iter()
+            .filter(|r| r["variant"].as_u64() == Some(v))
+            .map(|r| (r["track"].as_u64().unwrap(), r["track_overlap"].as_f64()))
+            .collect()
+    };
+    let first: Vec<u64> = of(1).iter().map(|t| t.0).collect();
+    let third = of(3);
+    assert!(!third.is_empty());
+    for (t, overlap) in &third {
+        assert!(
+            first.contains(t),
+            "track {t} of variant 3 not in variant 1: {first:?}"
+        );
+        assert!(overlap.is_some_and(|o| o >= 0.5), "{overlap:?}");
+    }
+    let _ = std::fs::remove_dir_all(&dir);
+}

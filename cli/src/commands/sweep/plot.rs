@@ -82,18 +82,29 @@ pub fn svg(
     plate: &[PlotGroup],
 ) -> String {
     let (xs, x_label) = x_values(sweep, variants);
-    let mut freq: BTreeMap<usize, Vec<(f64, f64)>> = BTreeMap::new();
-    let mut q: BTreeMap<usize, Vec<(f64, f64)>> = BTreeMap::new();
+    // One line per track and value of the other parameters (a track spans rows of a
+    // grid; each row is drawn against the last parameter).
+    type Lines = BTreeMap<(usize, Vec<usize>), Vec<(f64, f64)>>;
+    let row = |variant: usize| {
+        let mut idx = sweep.value_indices(variant - 1);
+        idx.pop();
+        idx
+    };
+    let mut freq: Lines = BTreeMap::new();
+    let mut q: Lines = BTreeMap::new();
     for m in modes {
         let x = xs[m.variant - 1];
-        freq.entry(m.track).or_default().push((x, m.frequency_ghz));
+        let key = (m.track, row(m.variant));
+        freq.entry(key.clone())
+            .or_default()
+            .push((x, m.frequency_ghz));
         if let Some(ql) = m.q_loaded.filter(|v| *v > 0.0) {
-            q.entry(m.track).or_default().push((x, ql));
+            q.entry(key).or_default().push((x, ql));
         }
     }
-    let tracks = |map: BTreeMap<usize, Vec<(f64, f64)>>| -> Vec<Series> {
+    let tracks = |map: Lines| -> Vec<Series> {
         map.into_iter()
-            .map(|(t, points)| Series {
+            .map(|((t, _), points)| Series {
                 label: format!("track {t}"),
                 points,
                 colour: COLOURS[t % COLOURS.len()],
