@@ -11,7 +11,7 @@
 use super::plate::PlotGroup;
 use super::tables::{AtLine, ModeLine};
 use crate::output::svg::{esc, tick_step};
-use antinode_mesh::sweep::{value_number, SweepFile, Variant};
+use antinode_mesh::sweep::{value_number, Combine, SweepFile, Variant};
 use antinode_solver::post::band::ISM_BAND_HZ;
 use std::collections::BTreeMap;
 use std::fmt::Write as _;
@@ -85,7 +85,12 @@ pub fn svg(
     // One line per track and value of the other parameters (a track spans rows of a
     // grid; each row is drawn against the last parameter).
     type Lines = BTreeMap<(usize, Vec<usize>), Vec<(f64, f64)>>;
+    // With `combine = "zip"` (no turntable) the variants are one row.
+    let one_row = sweep.combine == Combine::Zip && sweep.plate_angles.is_none();
     let row = |variant: usize| {
+        if one_row {
+            return Vec::new();
+        }
         let mut idx = sweep.value_indices(variant - 1);
         idx.pop();
         idx
