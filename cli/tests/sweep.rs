@@ -166,3 +166,101 @@ fn resume_after_a_killed_run_gives_the_same_tables() {
     assert_eq!(a, b);
     std::fs::remove_dir_all(&dir).unwrap();
 }
+
+/// The memory figure of `modes --plan` ("estimated peak memory X (").
+fn modes_plan(geometry: &Path, options: &[&str], out: &Path) -> String {
+    let mut args = vec![
+        "modes",
+        geometry.to_str().unwrap(),
+        "--plan",
+        "-o",
+        out.to_str().unwrap(),
+    ];
+    args.extend_from_slice(options);
+    let o = antinode(&args);
+    let t = text(&o.stdout);
+    let at = t
+        .find("estimated peak memory ")
+        .expect("modes --plan prints its plan")
+        + 22;
+    t[at..at + t[at..].find(" (").unwrap()].to_string()
+}
+
+#[test]
+fn memory_plan_applies_target_and_count() {
+    // The sweep plans each variant with its commands' options: with --target 2.6 and
+    // --count 40 (a finer mesh and a larger basis than the file's 1.3 GHz and 4 modes)
+    // its largest plan is the one `modes --plan` gives with the same options.
+    let dir = scratch_with_base("plan");
+    let s = dir.join("sweep.toml");
+    std::fs::write(
+        &s,
+        "geometry = \"base.toml\"\nrun = [\"modes\"]\n[options]\nmodes = [\"--no-fields\", \
+         \"--target\", \"2.6\", \"--count\", \"40\"]\n[[parameter]]\nkey = \"cavity.size.2\"\n\
+         values = [120.0]\n",
+    )
+    .unwrap();
+    let base = dir.join("base.toml");
+    let with = modes_plan(
+        &base,
+        &["--target", "2.6", "--count", "40"],
+        &dir.join("p1"),
+    );
+    let without = modes_plan(&base, &[], &dir.join("p2"));
+    assert_ne!(with, without, "the options change the plan");
+    let out = dir.join("out");
+    let o = antinode(&["sweep", s.to_str().unwrap(), "-o", out.to_str().unwrap()]);
+    let stdout = text(&o.stdout);
+    assert!(o.status.success(), "{stdout} {}", text(&o.stderr));
+    assert!(
+        stdout.contains(&format!("largest plan {with},")),
+        "expected {with}: {stdout}"
+    );
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+#[test]
+fn tracks_continue_across_the_rows_of_a_two_parameter_grid() {
+    // Widths 200 and 204 mm × heights 120 and 123 mm: the first variant of the second
+    // row (width 204, height 120) continues the tracks of the first row's first variant
+    // (width 200, height 120), one parameter one value apart; before, it started new
+    // tracks. The small steps (2 %) move no mode of this box past another among the
+    // four found (analytic TE/TM_mnp frequencies, Pozar 4th ed. §6.3).
+    let dir = scratch_with_base("grid");
+    let s = dir.join("sweep.toml");
+    std::fs::write(
+        &s,
+        "geometry = \"base.toml\"\nrun = [\"modes\"]\n[options]\nmodes = [\"--no-fields\"]\n\
+         [[parameter]]\nkey = \"cavity.size.0\"\nvalues = [200.0, 204.0]\n\
+         [[parameter]]\nkey = \"cavity.size.2\"\nvalues = [120.0, 123.0]\n",
+    )
+    .unwrap();
+    let out = dir.join("out");
+    let o = antinode(&["sweep", s.to_str().unwrap(), "-o", out.to_str().unwrap()]);
+    assert!(
+        o.status.success(),
+        "{} {}",
+        text(&o.stdout),
+        text(&o.stderr)
+    );
+    let doc: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("sweep.json")).unwrap()).unwrap();
+    let rows = doc["modes"].as_array().unwrap();
+    let of = |v: u64| -> Vec<(u64, Option<f64>)> {
+        rows.iter()
+            .filter(|r| r["variant"].as_u64() == Some(v))
+            .map(|r| (r["track"].as_u64().unwrap(), r["track_overlap"].as_f64()))
+            .collect()
+    };
+    let first: Vec<u64> = of(1).iter().map(|t| t.0).collect();
+    let third = of(3);
+    assert!(!third.is_empty());
+    for (t, overlap) in &third {
+        assert!(
+            first.contains(t),
+            "track {t} of variant 3 not in variant 1: {first:?}"
+        );
+        assert!(overlap.is_some_and(|o| o >= 0.5), "{overlap:?}");
+    }
+    let _ = std::fs::remove_dir_all(&dir);
+}

@@ -158,6 +158,20 @@ pub enum GeometryError {
         detail: String,
     },
 
+    /// A load riding on the turntable reaches into a port's aperture at some angle.
+    #[error(
+        "{at}: load \"{load}\" reaches into the aperture of port \"{port}\" (line {}): \
+         {detail}; a load on the plate must stay clear of the feed apertures (it may touch \
+         their rims)", port_line.map_or("?".to_string(), |l| l.to_string())
+    )]
+    LoadAtPort {
+        at: Box<Location>,
+        load: String,
+        port: String,
+        port_line: Option<usize>,
+        detail: String,
+    },
+
     /// Two port apertures share wall area (touching edges are allowed).
     #[error(
         "{at}: port \"{port}\" overlaps port \"{other}\" (line {}): {detail}; ports may touch \
@@ -244,6 +258,7 @@ impl GeometryError {
             | UnknownMetal { at, .. }
             | LoadOutsideCavity { at, .. }
             | LoadsOverlap { at, .. }
+            | LoadAtPort { at, .. }
             | PortsOverlap { at, .. }
             | PortDoesNotFit { at, .. }
             | PortWrongWall { at, .. }

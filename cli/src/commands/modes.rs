@@ -270,7 +270,7 @@ pub fn run_with(
 
 /// Command-line overrides, applied before meshing (target and sizes shape the mesh).
 /// Returns where the band came from, when there is one.
-fn apply_overrides(args: &ModesArgs, geom: &mut Geometry) -> Result<Option<String>> {
+pub(crate) fn apply_overrides(args: &ModesArgs, geom: &mut Geometry) -> Result<Option<String>> {
     if let Some(t) = args.target {
         geom.solve.target = positive("--target", t)?;
     }

@@ -154,7 +154,7 @@ impl Ctx<'_> {
         let turntable = raw
             .turntable
             .as_ref()
-            .map(|t| self.turntable(t, &cavity.shape, &loads, &load_lines))
+            .map(|t| self.turntable(t, &cavity.shape, &loads, &load_lines, &ports, &port_lines))
             .transpose()?;
         Ok(Geometry {
             title: raw.title.map(Spanned::into_inner).unwrap_or_default(),

@@ -15,7 +15,8 @@
 //! by θ about z. A box load's footprint centre moves so and its own `angle_deg` grows by
 //! θ; a cylinder's centre moves so (its axis is vertical, so its shape is unchanged).
 //! The file's placement is θ = 0. Every angle is validated as the file itself is (loads
-//! inside the cavity, not overlapping any other load) before anything runs.
+//! inside the cavity, not overlapping any other load) before anything runs, and every
+//! riding load must stay clear of every port's aperture at every angle ([`aperture`]).
 
 use super::context::{fmt_list, Ctx, Res};
 use super::raw::RawTurntable;
@@ -23,6 +24,8 @@ use super::validate::{overlap, tolerance};
 use super::*;
 use crate::error::{GeometryError, Item};
 use toml::{Spanned, Table, Value};
+
+mod aperture;
 
 /// Default spacing of the load-frame sample grid (mm): a few cells per wavelength in water
 /// at 2.45 GHz (λ ≈ 13.8 mm; our choice, no source).
@@ -174,6 +177,8 @@ impl Ctx<'_> {
         cavity: &CavityShape,
         loads: &[Load],
         load_lines: &[usize],
+        ports: &[Port],
+        port_lines: &[usize],
     ) -> Res<Turntable> {
         let item = Item::Turntable;
         let t = rt.get_ref();
@@ -300,20 +305,21 @@ impl Ctx<'_> {
             grid_mm,
         };
         for &a in &tt.angles_deg {
-            self.placement_at(rt, &tt, a, cavity, loads, load_lines)?;
+            self.placement_at(rt, &tt, a, cavity, (loads, load_lines), (ports, port_lines))?;
         }
         Ok(tt)
     }
 
-    /// The loads at plate angle `angle`: inside the cavity and apart from one another.
+    /// The loads at plate angle `angle`: inside the cavity, apart from one another, and
+    /// the riding ones clear of the port apertures.
     fn placement_at(
         &self,
         rt: &Spanned<RawTurntable>,
         tt: &Turntable,
         angle: f64,
         cavity: &CavityShape,
-        loads: &[Load],
-        load_lines: &[usize],
+        (loads, load_lines): (&[Load], &[usize]),
+        (ports, port_lines): (&[Port], &[usize]),
     ) -> Res<()> {
         let turned: Vec<Option<LoadShape>> = loads
             .iter()
@@ -334,6 +340,17 @@ impl Ctx<'_> {
             let Some(s) = &turned[i] else { continue };
             self.load_inside(cavity, s, &l.name, rt.span())
                 .map_err(at_angle)?;
+            for (p, port) in ports.iter().enumerate() {
+                if let Some(detail) = aperture::meets_aperture(s, port, cavity, tolerance(cavity)) {
+                    return Err(at_angle(GeometryError::LoadAtPort {
+                        at: self.at(rt.span()),
+                        load: l.name.clone(),
+                        port: port.name.clone(),
+                        port_line: port_lines.get(p).copied(),
+                        detail,
+                    }));
+                }
+            }
             for (k, other) in loads.iter().enumerate() {
                 if k == i || (tt.carries(&other.name) && k < i) {
                     continue;

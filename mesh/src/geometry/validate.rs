@@ -248,7 +248,7 @@ fn cylinder_overlap(a: &LoadShape, b: &LoadShape, tol: f64, zdesc: &str) -> Opti
 /// Least overlap of two convex polygons' projections over the normals of all their edges
 /// (the separating-axis theorem for convex sets: disjoint exactly when some edge normal
 /// separates them): positive when the polygons share area, and then the depth of that overlap.
-fn separating_overlap(a: &[[f64; 2]], b: &[[f64; 2]]) -> f64 {
+pub(super) fn separating_overlap(a: &[[f64; 2]], b: &[[f64; 2]]) -> f64 {
     let mut least = f64::INFINITY;
     for poly in [a, b] {
         for k in 0..poly.len() {

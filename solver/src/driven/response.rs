@@ -15,7 +15,9 @@
 //! (ωε0/2) ε″_r xᴴM_r x, the walls Rs/(2ω²μ0²) xᴴWx ([`super::system`]). The absorbed
 //! density of a cell is the cell average q_T = (ωε0ε″/2) ∫_T |E|² dV / V_T (exact
 //! element integrals), so the densities times the cell volumes sum to the absorbed power
-//! of the quadratic forms.
+//! of the quadratic forms. At a point x of cell T the density is the field's own value
+//! q(x) = (ωε0ε″/2) |E(x)|², E(x) = Σ_a x_a φ_a(x) with the element functions of T at x
+//! ([`point_heating`]); its mean over T is q_T.
 
 use super::system::{MaterialsAt, TermLayout};
 use crate::constants::{C0, EPS0, MU0};
@@ -194,10 +196,102 @@ pub fn cell_heating(
         .collect()
 }
 
+/// The absorbed density q(x) = (ωε0ε″/2)|E(x)|² (W/m³) of the field xr + j xi at located
+/// points (`(tet, barycentric coordinates)` from [`crate::post::probes::locate`]), E from
+/// the element functions of the tetrahedron holding the point; None where a point is in
+/// no tetrahedron.
+pub fn point_heating(
+    space: &Space<'_>,
+    omega: f64,
+    mats: &[crate::fem::assembly::RegionMaterial],
+    xr: &[f64],
+    xi: &[f64],
+    located: &[Option<(usize, [f64; 4])>],
+) -> Vec<Option<f64>> {
+    let fields = crate::post::probes::sample(space, xr, xi, located);
+    located
+        .iter()
+        .zip(fields)
+        .map(|(loc, e)| {
+            let (t, _) = (*loc)?;
+            let e = e?;
+            let region = space.mesh.tet_region[t] as usize;
+            let eps_imag = mats.get(region).map_or(0.0, |m| m.eps_imag);
+            let e2: f64 = e.iter().map(|c| c.norm_sqr()).sum();
+            Some(0.5 * omega * EPS0 * eps_imag * e2)
+        })
+        .collect()
+}
+
 /// (q, volume) of the cells of region `region`.
 pub fn region_cells(space: &Space<'_>, heating: &[f64], region: usize) -> Vec<(f64, f64)> {
     (0..space.n_tets())
         .filter(|&t| space.mesh.tet_region[t] as usize == region)
         .map(|t| (heating[t], space.tet_geometry(t).volume))
         .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::fem::assembly::RegionMaterial;
+    use crate::fem::quadrature::tet_rule;
+    use crate::NedelecOrder;
+    use antinode_mesh::structured::{grid_mesh, GridLines};
+    use antinode_mesh::RegionInfo;
+    use rand::{Rng, SeedableRng};
+    use rand_chacha::ChaCha8Rng;
+
+    /// The point density integrated over each cell by a quadrature rule exact for its
+    /// degree gives back the cell average (the definition of q_T: an identity, so the
+    /// tolerance is rounding, 1e-12 relative, our bound).
+    #[test]
+    fn point_heating_integrates_to_the_cell_average() {
+        let mesh = grid_mesh(
+            &GridLines::uniform([0.0; 3], [0.1, 0.08, 0.06], [2, 2, 2]),
+            vec![
+                RegionInfo { name: "air".into() },
+                RegionInfo {
+                    name: "load".into(),
+                },
+            ],
+            |c| Some(if c[2] < 0.03 { 1 } else { 0 }),
+        );
+        let mats = [
+            RegionMaterial::VACUUM,
+            RegionMaterial {
+                eps_real: 4.0,
+                eps_imag: 0.4,
+                mu_r: 1.0,
+            },
+        ];
+        for order in [NedelecOrder::One, NedelecOrder::Two, NedelecOrder::Three] {
+            // No wall eliminated: every unknown carries a random coefficient.
+            let space = Space::new(&mesh, order, |_| false);
+            let mut rng = ChaCha8Rng::seed_from_u64(7);
+            let n = space.n_dofs();
+            let xr: Vec<f64> = (0..n).map(|_| rng.gen_range(-1.0..1.0)).collect();
+            let xi: Vec<f64> = (0..n).map(|_| rng.gen_range(-1.0..1.0)).collect();
+            let omega = 2.0 * std::f64::consts::PI * 2.45e9;
+            let cells = cell_heating(&space, omega, &mats, &xr, &xi);
+            // |E|² has degree 2(p − 1) in the cell; the 5³-point rule is exact to degree 7.
+            let rule = tet_rule(5);
+            for (t, &qc) in cells.iter().enumerate() {
+                let located: Vec<Option<(usize, [f64; 4])>> =
+                    rule.points.iter().map(|&l| Some((t, l))).collect();
+                let q = point_heating(&space, omega, &mats, &xr, &xi, &located);
+                let mean: f64 = q
+                    .iter()
+                    .zip(&rule.weights)
+                    .map(|(q, w)| q.expect("located") * w)
+                    .sum();
+                let scale = cells.iter().copied().fold(0.0, f64::max);
+                assert!(
+                    (mean - qc).abs() <= 1e-12 * scale,
+                    "order {order:?} cell {t}: {mean} against {qc}"
+                );
+            }
+            assert!(cells.iter().any(|&q| q > 0.0));
+        }
+    }
 }

@@ -14,8 +14,12 @@
 //! ([`load_grid`]): the centres of equal cells of the box load (in its own, turned axes)
 //! or of the cells of a square grid over a cylinder's cross-section whose centres lie
 //! within R − h/2 of the axis (h the cell side), so no sample sits in the faceted rim the
-//! mesher makes of the circle. Each sample takes the heating of the tetrahedron holding
-//! it (the cell-averaged density of [`super::response`]).
+//! mesher makes of the circle. Each sample is the density of the field at the point,
+//! q(x) = (ωε0ε″/2)|E(x)|² with E from the element functions of the tetrahedron holding
+//! it ([`super::response::point_heating`]), not that tetrahedron's average: the cell
+//! average differs from the point value by O(h) (the gradient times the distance to the
+//! cell's centroid), the point value from the exact field by the element's O(h^p)
+//! (tested against the analytic TE101 field in `tests/tests/point_heating.rs`).
 //!
 //! Uniformity of a sampled pattern: the grid cells have equal volumes, so the COV of
 //! [`super::uniformity`] with equal weights, σ/μ over the samples. The COV of q̄ beside

@@ -192,19 +192,36 @@ pub fn track_ids(
     starts: &[bool],
     opts: &TrackOptions,
 ) -> Vec<Vec<(usize, Option<f64>)>> {
+    let parents: Vec<Option<usize>> = (0..chain.len())
+        .map(|v| (v > 0 && !starts[v]).then(|| v - 1))
+        .collect();
+    track_tree(chain, &parents, opts)
+}
+
+/// Track ids over a tree of variants: variant v continues the tracks of `parents[v]`
+/// (an earlier variant, `parents[v] < v`) or starts new ones (`None`). Each mode of v
+/// paired with a mode of its parent ([`match_modes`]) takes that mode's id, so a track
+/// holds at most one mode per variant and runs along every edge of the tree (over a
+/// grid of several parameters: one track id for the same mode in every variant the
+/// tree's edges reach). Ids are numbered from 0 in order of appearance.
+pub fn track_tree(
+    modes: &[Vec<ProbedMode>],
+    parents: &[Option<usize>],
+    opts: &TrackOptions,
+) -> Vec<Vec<(usize, Option<f64>)>> {
     let mut next_id = 0;
-    let mut out: Vec<Vec<(usize, Option<f64>)>> = Vec::with_capacity(chain.len());
-    for (v, modes) in chain.iter().enumerate() {
-        let matched = if v == 0 || starts[v] {
-            vec![None; modes.len()]
-        } else {
-            match_modes(&chain[v - 1], modes, opts)
+    let mut out: Vec<Vec<(usize, Option<f64>)>> = Vec::with_capacity(modes.len());
+    for (v, ms) in modes.iter().enumerate() {
+        let parent = parents.get(v).copied().flatten().filter(|&p| p < v);
+        let matched = match parent {
+            None => vec![None; ms.len()],
+            Some(p) => match_modes(&modes[p], ms, opts),
         };
-        let mut ids = Vec::with_capacity(modes.len());
+        let mut ids = Vec::with_capacity(ms.len());
         for m in matched {
-            match m {
-                Some(c) => ids.push((out[v - 1][c.previous].0, Some(c.overlap))),
-                None => {
+            match (m, parent) {
+                (Some(c), Some(p)) => ids.push((out[p][c.previous].0, Some(c.overlap))),
+                _ => {
                     ids.push((next_id, None));
                     next_id += 1;
                 }
@@ -284,5 +301,41 @@ mod tests {
             degenerate_groups(&[2.0, 1.0, 1.001], 2e-3),
             vec![vec![1, 2], vec![0]]
         );
+    }
+
+    /// Over a 2 × 2 grid whose tree runs (0,0) → (0,1), (0,0) → (1,0) → (1,1), the
+    /// modes of the second row keep the first row's ids by their fields, though their
+    /// frequency order is swapped there.
+    #[test]
+    fn tracks_continue_across_rows_of_a_grid() {
+        let a = field(&[[1.0, 0.0, 0.0], [0.0, 1.0, 0.0]]);
+        let b = field(&[[0.0, 0.0, 1.0], [1.0, 0.0, -1.0]]);
+        let m = |f: f64, x: &ProbeField| ProbedMode {
+            frequency_hz: f,
+            field: x.clone(),
+        };
+        let modes = vec![
+            vec![m(1.0e9, &a), m(1.1e9, &b)],
+            vec![m(1.0e9, &a), m(1.1e9, &b)],
+            vec![m(1.0e9, &b), m(1.1e9, &a)],
+            vec![m(1.0e9, &b), m(1.1e9, &a)],
+        ];
+        let ids = track_tree(
+            &modes,
+            &[None, Some(0), Some(0), Some(2)],
+            &TrackOptions::default(),
+        );
+        let id = |v: usize, k: usize| ids[v][k].0;
+        assert_eq!((id(0, 0), id(0, 1)), (0, 1));
+        assert_eq!((id(1, 0), id(1, 1)), (0, 1));
+        assert_eq!((id(2, 0), id(2, 1)), (1, 0));
+        assert_eq!((id(3, 0), id(3, 1)), (1, 0));
+        // Without the row edge the second row starts new tracks.
+        let apart = track_tree(
+            &modes,
+            &[None, Some(0), None, Some(2)],
+            &TrackOptions::default(),
+        );
+        assert_eq!((apart[2][0].0, apart[2][1].0), (2, 3));
     }
 }

@@ -133,14 +133,19 @@ fn check_plan(args: &DriveArgs, mesh: &antinode_mesh::TetMesh, geom: &Geometry) 
 }
 
 pub fn run(args: &DriveArgs) -> Result<()> {
-    run_with(args, &mut |_, _| Ok(()))
+    run_with(args, &mut |_, _, _| Ok(()))
 }
 
-/// [`run`], handing the mesh and the response to `inspect` before the folder is
-/// committed (the sweep samples a turntable variant's heating there).
+/// [`run`], handing the mesh, the response and the region materials (by frequency, Hz)
+/// to `inspect` before the folder is committed (the sweep samples a turntable variant's
+/// heating there).
 pub fn run_with(
     args: &DriveArgs,
-    inspect: &mut dyn FnMut(&antinode_mesh::TetMesh, &DrivenResponse<'_>) -> Result<()>,
+    inspect: &mut dyn FnMut(
+        &antinode_mesh::TetMesh,
+        &DrivenResponse<'_>,
+        &antinode_solver::driven::system::MaterialsAt<'_>,
+    ) -> Result<()>,
 ) -> Result<()> {
     let mut geom = super::load_geometry(&args.geometry)?;
     if geom.turntable.is_some() {
@@ -245,7 +250,7 @@ pub fn run_with(
         vtk_heating::write_one(dir, &mesh, &f.borrowed())?;
     }
     vtk_heating::write_pvd(dir, &at_ghz)?;
-    inspect(&mesh, &r)?;
+    inspect(&mesh, &r, &materials)?;
     let dir = out.target().to_path_buf();
     out.commit("drive", &args.geometry)?;
     report::print_summary(&doc, &r);

@@ -1,18 +1,24 @@
 //! Collect: read every variant folder, track the modes between neighbouring variants
 //! and write `sweep.csv`, `sweep.json` and `sweep.svg`.
 //!
-//! Neighbours: consecutive variants that differ only in the last parameter (with
-//! `combine = "zip"`, every consecutive pair); tracks start again where another
-//! parameter changes or a variant has no result.
+//! Neighbours form a tree over the variants: a variant continues the tracks of the
+//! variant whose value indices are its own with the last non-zero one lowered by one
+//! (the previous value of the last parameter, or, at a row's first value, the previous
+//! value of the parameter before it), so over a grid of several parameters the same mode
+//! keeps one track id in every variant, following the fields along each parameter
+//! (`antinode_solver::post::tracking::track_tree`). With `combine = "zip"` (no
+//! turntable) each variant continues the one before it. Tracks start again where the
+//! neighbour has no result.
 
 use super::tables::{self, AtLine, DriveLine, ModeLine};
 use super::variant::{is_complete, ProbesDoc};
 use super::{plot, variant_dir};
 use antinode_mesh::sweep::{value_text, Combine, RunKind, SweepFile, Variant};
-use antinode_solver::post::tracking::{track_ids, ProbedMode, TrackOptions};
+use antinode_solver::post::tracking::{track_tree, ProbedMode, TrackOptions};
 use anyhow::{Context, Result};
 use faer::c64;
 use serde::Serialize;
+use std::collections::HashMap;
 use std::path::Path;
 
 #[derive(Serialize)]
@@ -77,6 +83,30 @@ fn read_results(sweep: &SweepFile, dir: &Path, v: &Variant) -> Result<Results> {
     Ok(r)
 }
 
+/// The neighbour each variant continues its tracks from (see the module docs), None
+/// where tracks start; `has_result(k)` says whether variant k has modes to match.
+fn tracking_parents(
+    sweep: &SweepFile,
+    n: usize,
+    has_result: impl Fn(usize) -> bool,
+) -> Vec<Option<usize>> {
+    let chain = sweep.combine == Combine::Zip && sweep.plate_angles.is_none();
+    let index: HashMap<Vec<usize>, usize> = (0..n).map(|k| (sweep.value_indices(k), k)).collect();
+    (0..n)
+        .map(|k| {
+            let parent = if chain {
+                k.checked_sub(1)
+            } else {
+                let mut idx = sweep.value_indices(k);
+                let p = idx.iter().rposition(|&i| i > 0)?;
+                idx[p] -= 1;
+                index.get(&idx).copied()
+            };
+            parent.filter(|&p| p < k && has_result(p))
+        })
+        .collect()
+}
+
 pub fn collect(sweep: &SweepFile, dir: &Path, variants: &[Variant]) -> Result<()> {
     let mut entries = Vec::with_capacity(variants.len());
     let mut results: Vec<Option<Results>> = Vec::with_capacity(variants.len());
@@ -100,21 +130,12 @@ pub fn collect(sweep: &SweepFile, dir: &Path, variants: &[Variant]) -> Result<()
         });
         results.push(res);
     }
-    let starts: Vec<bool> = (0..variants.len())
-        .map(|k| {
-            k == 0
-                || results[k - 1].is_none()
-                || ((sweep.combine == Combine::Grid || sweep.plate_angles.is_some()) && {
-                    let (a, b) = (sweep.value_indices(k - 1), sweep.value_indices(k));
-                    a[..a.len() - 1] != b[..b.len() - 1]
-                })
-        })
-        .collect();
+    let parents = tracking_parents(sweep, variants.len(), |k| results[k].is_some());
     let chain: Vec<Vec<ProbedMode>> = results
         .iter()
         .map(|r| r.as_ref().map(|r| r.probed.clone()).unwrap_or_default())
         .collect();
-    let ids = track_ids(&chain, &starts, &TrackOptions::default());
+    let ids = track_tree(&chain, &parents, &TrackOptions::default());
     let mut modes = Vec::new();
     let mut drive = Vec::new();
     let mut at = Vec::new();
@@ -147,10 +168,11 @@ pub fn collect(sweep: &SweepFile, dir: &Path, variants: &[Variant]) -> Result<()
         geometry: sweep.geometry.display().to_string(),
         parameters: keys,
         run: sweep.run.iter().map(|k| k.name()).collect(),
-        tracking: "modes of neighbouring variants (differing in the last parameter only) \
-                   matched by the MAC of E at common probe points, degenerate groups as \
-                   subspaces (principal angles); track_overlap is the overlap that \
-                   continued the track",
+        tracking: "modes of neighbouring variants (one parameter one value apart: the \
+                   previous value of the last parameter, at a row's first value the \
+                   previous value of the parameter before it) matched by the MAC of E at \
+                   common probe points, degenerate groups as subspaces (principal \
+                   angles); track_overlap is the overlap that continued the track",
         variants: entries,
         modes: &modes,
         drive: &drive,
@@ -158,8 +180,7 @@ pub fn collect(sweep: &SweepFile, dir: &Path, variants: &[Variant]) -> Result<()
     };
     let json = serde_json::to_string_pretty(&doc)?;
     tables::write_atomic(&dir.join("sweep.json"), json.as_bytes())?;
-    let svg = plot::svg(sweep, variants, &modes, &at);
-    tables::write_atomic(&dir.join("sweep.svg"), svg.as_bytes())?;
+    let mut plate_plot = Vec::new();
     if sweep.plate_angles.is_some() && sweep.run.contains(&RunKind::Drive) {
         let plate: Vec<Option<super::plate::AngleResult>> = variants
             .iter()
@@ -170,8 +191,10 @@ pub fn collect(sweep: &SweepFile, dir: &Path, variants: &[Variant]) -> Result<()
                     .flatten()
             })
             .collect();
-        super::plate::collect(sweep, dir, variants, &plate)?;
+        plate_plot = super::plate::collect(sweep, dir, variants, &plate)?;
     }
+    let svg = plot::svg(sweep, variants, &modes, &at, &plate_plot);
+    tables::write_atomic(&dir.join("sweep.svg"), svg.as_bytes())?;
     let done = doc.variants.iter().filter(|e| e.status == "done").count();
     println!(
         "{done} of {} variants done; wrote {}/sweep.csv, sweep.json and sweep.svg",

@@ -13,7 +13,7 @@
 //! With a `[turntable]` in the base geometry every parameter combination runs at each
 //! plate angle (one variant per angle); a variant's folder then also holds
 //! `plate_samples.json` (its heating on the load-frame grids), and collect writes
-//! `turntable.csv`, `turntable.json` and `turntable_gNNN.vtu` beside the sweep tables
+//! `turntable.csv`, `turntable.json` and `turntable_gNNN_fKK.vtu` beside the sweep tables
 //! (`plate.rs`).
 
 mod collect;

@@ -1,8 +1,9 @@
 //! Turntable sweeps: each variant's heating sampled on its loads' frame grids
 //! (`plate_samples.json`), and, when collecting, the figures averaged over the plate
 //! angles of each parameter combination: `turntable.csv`, `turntable.json` and
-//! `turntable_gNNN.vtu` (the averaged heating on the load-frame grid). The mathematics is
-//! in `antinode_solver::driven::rotation`.
+//! `turntable_gNNN_fKK.vtu` (the averaged heating on the load-frame grid at each `--at`
+//! frequency), and the figures `sweep.svg` draws against the angle. The mathematics is in
+//! `antinode_solver::driven::rotation`.
 
 use super::tables::{self, write_atomic, AtLine, DriveLine};
 use super::variant::write_json;
@@ -10,9 +11,11 @@ use super::variant_dir;
 use antinode_mesh::sweep::{value_text, PlateVariant, SweepFile, Variant};
 use antinode_mesh::vtk::{self, CellBlock, DataArray, VtuPiece};
 use antinode_mesh::TetMesh;
+use antinode_solver::driven::response::point_heating;
 use antinode_solver::driven::rotation::{
     load_grid, points_at_angle, rotation_average, sample_uniformity, LoadGrid,
 };
+use antinode_solver::driven::system::MaterialsAt;
 use antinode_solver::driven::DrivenResponse;
 use antinode_solver::post::probes;
 use antinode_solver::problem::mm_to_m;
@@ -23,6 +26,9 @@ use std::path::Path;
 /// One load at one field frequency: the grid points held at every angle, and each
 /// angle's samples at them.
 type KeptSamples = (Vec<usize>, Vec<Vec<f64>>);
+
+/// The sampling of `plate_samples.json` (part of a turntable variant's content hash).
+pub const SAMPLING: &str = "field density at the load-frame grid points";
 
 /// `plate_samples.json` of one variant.
 #[derive(Serialize, Deserialize)]
@@ -37,8 +43,8 @@ pub struct PlateSamplesDoc {
 pub struct PlateLoadSamples {
     pub name: String,
     /// Per field frequency, per grid point (the load-frame grid's order): the heating
-    /// density (W/m³) of the tetrahedron holding the point at this angle; null where the
-    /// point is in no tetrahedron of this load.
+    /// density (W/m³) of the field at the point at this angle; null where the point is in
+    /// no tetrahedron of this load.
     pub heating_w_per_m3: Vec<Vec<Option<f64>>>,
 }
 
@@ -51,14 +57,18 @@ fn grids(plate: &PlateVariant) -> Vec<(String, LoadGrid)> {
         .collect()
 }
 
-/// Samples a solved variant's heating on its loads' grids turned to its plate angle.
+/// Samples a solved variant's heating on its loads' grids turned to its plate angle: the
+/// density of the field at each point (the element functions of the tetrahedron holding
+/// it, `point_heating`), where that tetrahedron belongs to the load.
 pub fn samples(
     plate: &PlateVariant,
     load_names: &[String],
     mesh: &TetMesh,
     r: &DrivenResponse<'_>,
+    materials: &MaterialsAt<'_>,
 ) -> Result<PlateSamplesDoc> {
     let space = &r.operator.space;
+    let mats: Vec<_> = r.at.iter().map(|a| materials(a.frequency_hz)).collect();
     let mut loads = Vec::new();
     for (name, grid) in grids(plate) {
         let region = load_names
@@ -71,18 +81,17 @@ pub fn samples(
             .into_iter()
             .map(|p| p.map(mm_to_m))
             .collect();
-        let located = probes::locate(space, &pts);
+        // Points in another region's tetrahedron (the load's faceted rim) are dropped.
+        let located: Vec<Option<(usize, [f64; 4])>> = probes::locate(space, &pts)
+            .into_iter()
+            .map(|l| l.filter(|&(t, _)| mesh.tet_region[t] == region))
+            .collect();
         let heating =
             r.at.iter()
-                .map(|a| {
-                    located
-                        .iter()
-                        .map(|l| {
-                            l.and_then(|(t, _)| {
-                                (mesh.tet_region[t] == region).then(|| a.field.cell_heating[t])
-                            })
-                        })
-                        .collect()
+                .zip(&mats)
+                .map(|(a, m)| {
+                    let omega = 2.0 * std::f64::consts::PI * a.frequency_hz;
+                    point_heating(space, omega, m, &a.field.re, &a.field.im, &located)
                 })
                 .collect();
         loads.push(PlateLoadSamples {
@@ -149,6 +158,8 @@ struct MeanAt {
     s11_abs: f64,
     absorbed_fraction: f64,
     heating: Vec<MeanLoadHeating>,
+    /// The averaged heating at this frequency on the load-frame grid.
+    vtu: String,
 }
 
 #[derive(Serialize)]
@@ -171,8 +182,6 @@ struct GroupEntry {
     /// |S11| and absorbed fraction averaged over the angles at each band frequency.
     #[serde(skip_serializing_if = "Option::is_none")]
     mean_band: Option<Vec<BandMean>>,
-    #[serde(skip_serializing_if = "Option::is_none")]
-    vtu: Option<String>,
 }
 
 #[derive(Serialize)]
@@ -215,16 +224,45 @@ fn mean(x: impl Iterator<Item = f64>) -> f64 {
     v.iter().sum::<f64>() / v.len() as f64
 }
 
-/// Writes the turntable outputs; `results[k]` is variant k's, None when missing.
+/// What `sweep.svg` shows of one complete parameter combination: the figures at the
+/// first field (`--at`) frequency against the plate angle.
+pub struct PlotGroup {
+    /// The combination's parameter values (empty without parameters).
+    pub label: String,
+    pub frequency_ghz: f64,
+    pub angles_deg: Vec<f64>,
+    pub s11_abs: Vec<f64>,
+    pub absorbed_fraction: Vec<f64>,
+    /// Means over the angles.
+    pub s11_mean: f64,
+    pub absorbed_mean: f64,
+    pub loads: Vec<PlotLoad>,
+}
+
+/// One riding load's heating COV at each fixed angle and of the averaged pattern.
+pub struct PlotLoad {
+    pub name: String,
+    pub fixed_cov: Vec<f64>,
+    pub averaged_cov: f64,
+}
+
+/// The averaged-heating VTU of combination `g` (0-based) at field frequency `fi`.
+fn vtu_name(g: usize, fi: usize) -> String {
+    format!("turntable_g{:03}_f{:02}.vtu", g + 1, fi + 1)
+}
+
+/// Writes the turntable outputs; `results[k]` is variant k's, None when missing. Returns
+/// the complete combinations' figures for `sweep.svg`.
 pub fn collect(
     sweep: &SweepFile,
     dir: &Path,
     variants: &[Variant],
     results: &[Option<AngleResult>],
-) -> Result<()> {
+) -> Result<Vec<PlotGroup>> {
     let Some(angles) = &sweep.plate_angles else {
-        return Ok(());
+        return Ok(Vec::new());
     };
+    let mut plot = Vec::new();
     let na = angles.len();
     let keys: Vec<String> = sweep.parameters.iter().map(|p| p.key.clone()).collect();
     let mut groups = Vec::new();
@@ -249,7 +287,6 @@ pub fn collect(
                 angles: Vec::new(),
                 mean_at: None,
                 mean_band: None,
-                vtu: None,
             });
             continue;
         };
@@ -368,6 +405,7 @@ pub fn collect(
                         angle_entries.iter().map(|e| e.at[fi].absorbed_fraction),
                     ),
                     heating,
+                    vtu: vtu_name(g, fi),
                 }
             })
             .collect();
@@ -385,8 +423,48 @@ pub fn collect(
                 ),
             })
             .collect();
-        let vtu = format!("turntable_g{:03}.vtu", g + 1);
-        write_vtu(&dir.join(&vtu), &grids, &heat, &averaged, angles)?;
+        for (fi, m) in mean_at.iter().enumerate() {
+            write_vtu(&dir.join(&m.vtu), &grids, &heat, &averaged, angles, fi)?;
+        }
+        if let Some(m) = mean_at.first() {
+            plot.push(PlotGroup {
+                label: if keys.is_empty() {
+                    String::new()
+                } else {
+                    format!(
+                        "group {}: {}",
+                        g + 1,
+                        keys.iter()
+                            .zip(&values)
+                            .map(|(k, v)| format!("{k} = {v}"))
+                            .collect::<Vec<_>>()
+                            .join(", ")
+                    )
+                },
+                frequency_ghz: m.frequency_ghz,
+                angles_deg: angles.clone(),
+                s11_abs: angle_entries.iter().map(|e| e.at[0].s11_abs).collect(),
+                absorbed_fraction: angle_entries
+                    .iter()
+                    .map(|e| e.at[0].absorbed_fraction)
+                    .collect(),
+                s11_mean: m.s11_abs,
+                absorbed_mean: m.absorbed_fraction,
+                loads: m
+                    .heating
+                    .iter()
+                    .enumerate()
+                    .map(|(li, h)| PlotLoad {
+                        name: h.averaged.load.clone(),
+                        fixed_cov: angle_entries
+                            .iter()
+                            .map(|e| e.at[0].heating[li].cov)
+                            .collect(),
+                        averaged_cov: h.averaged.cov,
+                    })
+                    .collect(),
+            });
+        }
         // CSV rows: per angle and the mean, at each field frequency per load, then the
         // band frequencies without heating.
         let head = |row: &str, angle: String| {
@@ -448,7 +526,6 @@ pub fn collect(
             angles: angle_entries,
             mean_at: Some(mean_at),
             mean_band: Some(mean_band),
-            vtu: Some(vtu),
         });
     }
     let mut w = csv::Writer::from_writer(Vec::new());
@@ -485,8 +562,9 @@ pub fn collect(
         loads: t.loads,
         angles_deg: angles.clone(),
         grid_mm: t.grid_mm,
-        averaging: "heating density sampled at each angle on a grid fixed in the load's \
-                    frame (points turned with the plate), averaged over the angles; COV = \
+        averaging: "heating density of the field at the points of a grid fixed in the \
+                    load's frame (points turned with the plate) at each angle, averaged over \
+                    the angles; COV = \
                     std/mean over the grid points (equal cells); fixed_angle_cov_* the \
                     COVs of the single angles on the same points; s11_abs and \
                     absorbed_fraction averaged over the angles",
@@ -497,20 +575,22 @@ pub fn collect(
         serde_json::to_string_pretty(&doc)?.as_bytes(),
     )?;
     println!(
-        "wrote {}/turntable.csv, turntable.json and turntable_g*.vtu (averages over {na} plate angles)",
+        "wrote {}/turntable.csv, turntable.json and turntable_gNNN_fKK.vtu (averages over \
+         {na} plate angles; one VTU per combination and --at frequency)",
         dir.display()
     );
-    Ok(())
+    Ok(plot)
 }
 
-/// The averaged heating at the first field frequency on the load-frame grids (metres,
-/// plate angle 0), one hexahedron per grid cell, with each angle's pattern beside it.
+/// The averaged heating at field frequency `fi` on the load-frame grids (metres, plate
+/// angle 0), one hexahedron per grid cell, with each angle's pattern beside it.
 fn write_vtu(
     path: &Path,
     grids: &[(String, LoadGrid)],
     heat: &[Vec<KeptSamples>],
     averaged: &[Vec<Vec<f64>>],
     angles: &[f64],
+    fi: usize,
 ) -> Result<()> {
     let mut points = Vec::new();
     let mut cells = Vec::new();
@@ -518,7 +598,7 @@ fn write_vtu(
     let mut mean = Vec::new();
     let mut per_angle: Vec<Vec<f64>> = vec![Vec::new(); angles.len()];
     for (li, (_, grid)) in grids.iter().enumerate() {
-        let Some((kept, s)) = heat.get(li).and_then(|h| h.first()) else {
+        let Some((kept, s)) = heat.get(li).and_then(|h| h.get(fi)) else {
             continue;
         };
         for (j, &i) in kept.iter().enumerate() {
@@ -526,7 +606,7 @@ fn write_vtu(
             points.extend(grid.cells[i].iter().map(|p| p.map(mm_to_m)));
             cells.push(std::array::from_fn::<u32, 8, _>(|k| base + k as u32));
             load_id.push(li as i32 + 1);
-            mean.push(averaged[li][0][j]);
+            mean.push(averaged[li][fi][j]);
             for (a, pa) in per_angle.iter_mut().enumerate() {
                 pa.push(s[a][j]);
             }

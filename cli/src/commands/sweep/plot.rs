@@ -2,10 +2,16 @@
 //! ISM band shaded), and for `drive` the absorbed fraction and |S11| at the operating
 //! frequency. A parameter whose values are not single numbers is plotted against the
 //! value's position in its list.
+//!
+//! A turntable sweep is plotted against the plate angle: the absorbed fraction and |S11|
+//! at the operating (first `--at`) frequency per angle with their means over the angles
+//! as dashed lines, and each riding load's heating COV at every fixed angle with the COV
+//! of the rotation-averaged pattern as a dashed line (what the plate evens out).
 
+use super::plate::PlotGroup;
 use super::tables::{AtLine, ModeLine};
 use crate::output::svg::{esc, tick_step};
-use antinode_mesh::sweep::{value_number, SweepFile, Variant};
+use antinode_mesh::sweep::{value_number, Combine, SweepFile, Variant};
 use antinode_solver::post::band::ISM_BAND_HZ;
 use std::collections::BTreeMap;
 use std::fmt::Write as _;
@@ -25,13 +31,15 @@ struct Series {
     colour: &'static str,
 }
 
-struct Panel<'a> {
-    title: &'a str,
-    y_label: &'a str,
+struct Panel {
+    title: String,
+    y_label: String,
     log: bool,
     /// Shaded horizontal band (y values).
     band: Option<[f64; 2]>,
     series: Vec<Series>,
+    /// Dashed horizontal lines across the panel: (y, colour, label).
+    lines: Vec<(f64, &'static str, String)>,
 }
 
 /// The plot's x value of each variant.
@@ -66,20 +74,42 @@ fn x_values(sweep: &SweepFile, variants: &[Variant]) -> (Vec<f64>, String) {
     (xs, label)
 }
 
-pub fn svg(sweep: &SweepFile, variants: &[Variant], modes: &[ModeLine], at: &[AtLine]) -> String {
+pub fn svg(
+    sweep: &SweepFile,
+    variants: &[Variant],
+    modes: &[ModeLine],
+    at: &[AtLine],
+    plate: &[PlotGroup],
+) -> String {
     let (xs, x_label) = x_values(sweep, variants);
-    let mut freq: BTreeMap<usize, Vec<(f64, f64)>> = BTreeMap::new();
-    let mut q: BTreeMap<usize, Vec<(f64, f64)>> = BTreeMap::new();
+    // One line per track and value of the other parameters (a track spans rows of a
+    // grid; each row is drawn against the last parameter).
+    type Lines = BTreeMap<(usize, Vec<usize>), Vec<(f64, f64)>>;
+    // With `combine = "zip"` (no turntable) the variants are one row.
+    let one_row = sweep.combine == Combine::Zip && sweep.plate_angles.is_none();
+    let row = |variant: usize| {
+        if one_row {
+            return Vec::new();
+        }
+        let mut idx = sweep.value_indices(variant - 1);
+        idx.pop();
+        idx
+    };
+    let mut freq: Lines = BTreeMap::new();
+    let mut q: Lines = BTreeMap::new();
     for m in modes {
         let x = xs[m.variant - 1];
-        freq.entry(m.track).or_default().push((x, m.frequency_ghz));
+        let key = (m.track, row(m.variant));
+        freq.entry(key.clone())
+            .or_default()
+            .push((x, m.frequency_ghz));
         if let Some(ql) = m.q_loaded.filter(|v| *v > 0.0) {
-            q.entry(m.track).or_default().push((x, ql));
+            q.entry(key).or_default().push((x, ql));
         }
     }
-    let tracks = |map: BTreeMap<usize, Vec<(f64, f64)>>| -> Vec<Series> {
+    let tracks = |map: Lines| -> Vec<Series> {
         map.into_iter()
-            .map(|(t, points)| Series {
+            .map(|((t, _), points)| Series {
                 label: format!("track {t}"),
                 points,
                 colour: COLOURS[t % COLOURS.len()],
@@ -89,26 +119,30 @@ pub fn svg(sweep: &SweepFile, variants: &[Variant], modes: &[ModeLine], at: &[At
     let mut panels = Vec::new();
     if !modes.is_empty() {
         panels.push(Panel {
-            title: "tracked mode frequencies (ISM band shaded)",
-            y_label: "frequency (GHz)",
+            title: "tracked mode frequencies (ISM band shaded)".into(),
+            y_label: "frequency (GHz)".into(),
             log: false,
             band: Some(ISM_BAND_HZ.map(|f| f / 1e9)),
             series: tracks(freq),
+            lines: Vec::new(),
         });
         panels.push(Panel {
-            title: "loaded Q per track",
-            y_label: "Q_L (log scale)",
+            title: "loaded Q per track".into(),
+            y_label: "Q_L (log scale)".into(),
             log: true,
             band: None,
             series: tracks(q),
+            lines: Vec::new(),
         });
     }
-    if !at.is_empty() {
+    if !plate.is_empty() {
+        panels.extend(plate_panels(plate));
+    } else if !at.is_empty() {
         let pts =
             |f: &dyn Fn(&AtLine) -> f64| at.iter().map(|a| (xs[a.variant - 1], f(a))).collect();
         panels.push(Panel {
-            title: "drive at the operating frequency: absorbed fraction (blue), |S11| (red)",
-            y_label: "fraction",
+            title: "drive at the operating frequency: absorbed fraction (blue), |S11| (red)".into(),
+            y_label: "fraction".into(),
             log: false,
             band: None,
             series: vec![
@@ -123,6 +157,7 @@ pub fn svg(sweep: &SweepFile, variants: &[Variant], modes: &[ModeLine], at: &[At
                     colour: COLOURS[1],
                 },
             ],
+            lines: Vec::new(),
         });
     }
     let height = 50.0 + panels.len() as f64 * (PANEL_H + GAP) + 20.0;
@@ -150,6 +185,88 @@ pub fn svg(sweep: &SweepFile, variants: &[Variant], modes: &[ModeLine], at: &[At
     o
 }
 
+/// The turntable panels (see the module docs); one colour pair per parameter combination.
+fn plate_panels(plate: &[PlotGroup]) -> Vec<Panel> {
+    let f = plate[0].frequency_ghz;
+    let pts = |g: &PlotGroup, v: &[f64]| -> Vec<(f64, f64)> {
+        g.angles_deg
+            .iter()
+            .copied()
+            .zip(v.iter().copied())
+            .collect()
+    };
+    let suffix = |g: &PlotGroup| {
+        if g.label.is_empty() {
+            String::new()
+        } else {
+            format!(" ({})", g.label)
+        }
+    };
+    let mut drive = Panel {
+        title: format!(
+            "drive at {f} GHz against the plate angle: absorbed fraction (blue), |S11| (red); \
+             dashed: mean over the angles"
+        ),
+        y_label: "fraction".into(),
+        log: false,
+        band: None,
+        series: Vec::new(),
+        lines: Vec::new(),
+    };
+    let mut cov = Panel {
+        title: "heating COV in the load at each fixed angle; dashed: COV of the \
+                rotation-averaged pattern"
+            .into(),
+        y_label: "COV (std/mean)".into(),
+        log: false,
+        band: None,
+        series: Vec::new(),
+        lines: Vec::new(),
+    };
+    let mut colour = 2;
+    for (gi, g) in plate.iter().enumerate() {
+        let (ca, cs) = if gi == 0 {
+            (COLOURS[0], COLOURS[1])
+        } else {
+            (COLOURS[(2 * gi) % 8], COLOURS[(2 * gi + 1) % 8])
+        };
+        let s = suffix(g);
+        drive.series.push(Series {
+            label: format!("absorbed fraction{s}"),
+            points: pts(g, &g.absorbed_fraction),
+            colour: ca,
+        });
+        drive.series.push(Series {
+            label: format!("|S11|{s}"),
+            points: pts(g, &g.s11_abs),
+            colour: cs,
+        });
+        drive.lines.push((
+            g.absorbed_mean,
+            ca,
+            format!("mean absorbed fraction {}{s}", g.absorbed_mean),
+        ));
+        drive
+            .lines
+            .push((g.s11_mean, cs, format!("mean |S11| {}{s}", g.s11_mean)));
+        for l in &g.loads {
+            let c = COLOURS[colour % COLOURS.len()];
+            colour += 1;
+            cov.series.push(Series {
+                label: format!("{} at fixed angles{s}", l.name),
+                points: pts(g, &l.fixed_cov),
+                colour: c,
+            });
+            cov.lines.push((
+                l.averaged_cov,
+                c,
+                format!("{} rotation-averaged COV {}{s}", l.name, l.averaged_cov),
+            ));
+        }
+    }
+    vec![drive, cov]
+}
+
 /// Data range, padded; log10 of the values when `log`.
 fn range(v: impl Iterator<Item = f64>, log: bool) -> [f64; 2] {
     let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
@@ -169,8 +286,12 @@ fn range(v: impl Iterator<Item = f64>, log: bool) -> [f64; 2] {
     [lo - pad, hi + pad]
 }
 
-fn draw_panel(o: &mut String, p: &Panel<'_>, top: f64, xr: [f64; 2], x_label: &str) {
-    let all = p.series.iter().flat_map(|s| s.points.iter().map(|q| q.1));
+fn draw_panel(o: &mut String, p: &Panel, top: f64, xr: [f64; 2], x_label: &str) {
+    let all = p
+        .series
+        .iter()
+        .flat_map(|s| s.points.iter().map(|q| q.1))
+        .chain(p.lines.iter().map(|l| l.0));
     let yr = range(
         all.chain(p.band.into_iter().flatten().filter(|_| !p.log)),
         p.log,
@@ -184,7 +305,7 @@ fn draw_panel(o: &mut String, p: &Panel<'_>, top: f64, xr: [f64; 2], x_label: &s
         o,
         r#"<text x="{LEFT}" y="{:.1}">{}</text>"#,
         top - 6.0,
-        esc(p.title)
+        esc(&p.title)
     );
     if let Some([a, b]) = p.band {
         let (ya, yb) = (sy(a).min(top + PANEL_H), sy(b).max(top));
@@ -236,8 +357,17 @@ fn draw_panel(o: &mut String, p: &Panel<'_>, top: f64, xr: [f64; 2], x_label: &s
         o,
         r#"<text transform="translate(18 {:.1}) rotate(-90)" text-anchor="middle">{}</text>"#,
         top + PANEL_H / 2.0,
-        esc(p.y_label)
+        esc(&p.y_label)
     );
+    for (y, colour, label) in &p.lines {
+        let _ = writeln!(
+            o,
+            r#"<line x1="{LEFT}" y1="{yy:.1}" x2="{:.1}" y2="{yy:.1}" stroke="{colour}" stroke-width="1.2" stroke-dasharray="6 4"><title>{}</title></line>"#,
+            LEFT + PLOT_W,
+            esc(label),
+            yy = sy(*y)
+        );
+    }
     for s in &p.series {
         let pts: Vec<String> = s
             .points

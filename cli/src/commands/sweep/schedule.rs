@@ -5,7 +5,8 @@
 //! Concurrency: J = min(--jobs or the core count, ⌊0.9 · MemAvailable / M⌋, pending),
 //! at least 1, with M the largest peak-memory estimate of the solver's plan
 //! (`antinode_solver::budget`) over the variants to run, for the heaviest command each
-//! runs. Each process gets ⌈cores / J⌉ threads (RAYON_NUM_THREADS), so the cores are
+//! runs with its `[options]` (mesh options, and for `modes` also `--target`, `--band`,
+//! `--count` and `--wall-losses`). Each process gets ⌈cores / J⌉ threads (RAYON_NUM_THREADS), so the cores are
 //! shared rather than oversubscribed.
 
 use super::variant::{self, is_complete};
@@ -14,7 +15,7 @@ use crate::budget::available;
 use crate::units;
 use antinode_mesh::sweep::{RunKind, SweepFile, Variant};
 use antinode_solver::budget;
-use antinode_solver::problem::{region_materials, settings_from};
+use antinode_solver::problem::region_materials;
 use anyhow::{Context, Result};
 use std::path::Path;
 use std::process::{Child, Command, Stdio};
@@ -23,16 +24,15 @@ use std::time::{Duration, Instant};
 /// Share of the available memory the concurrent runs may plan to use (as `modes`).
 const MEMORY_SHARE: f64 = 0.9;
 
-/// The largest plan (bytes) of variant `v` over the commands it runs.
-fn plan_bytes(sweep: &SweepFile, v: &Variant) -> Result<f64> {
+/// The largest plan (bytes) of variant `v` over the commands it runs, each with its
+/// sweep options applied ([`variant::planned`]).
+pub(super) fn plan_bytes(sweep: &SweepFile, v: &Variant) -> Result<f64> {
     let Ok(geom) = &v.geometry else {
         return Ok(0.0);
     };
     let mut worst: f64 = 0.0;
     for &kind in &sweep.run {
-        let mut g = geom.clone();
-        variant::mesh_options(sweep, kind)?.apply(&mut g)?;
-        let settings = settings_from(&g)?;
+        let (g, settings) = variant::planned(sweep, kind, geom)?;
         let (mesh, _) = crate::commands::mesh::make(&g)?;
         let plan = match kind {
             RunKind::Modes => {
@@ -149,4 +149,59 @@ pub fn run_all(
         println!("failed variants (see their logs): {failed:?}");
     }
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    //! The memory plan of a variant takes the command options as the command would: a
+    //! sweep whose `modes` options say `--target 3.1 --count 60` plans what a geometry
+    //! file with that target and count in `[solve]` plans (the same solver estimate,
+    //! `antinode_solver::budget::plan`, on the same mesh). Invented test geometry.
+    use super::*;
+
+    const BASE: &str = "[cavity]\nshape = \"box\"\nsize = [200.0, 150.0, 120.0]\nwalls = \"pec\"\n\
+                        [mesh]\norder = 1\nper_wavelength = 4.0\n";
+
+    fn plan_of_file(text: &str) -> f64 {
+        let g = antinode_mesh::Geometry::from_toml_str(text, None).unwrap();
+        let s = antinode_solver::problem::settings_from(&g).unwrap();
+        let (mesh, _) = crate::commands::mesh::make(&g).unwrap();
+        budget::plan(&mesh, &region_materials(&g, s.target_hz), &s).memory_bytes
+    }
+
+    fn sweep_plan(options: &str) -> f64 {
+        let dir = std::env::temp_dir().join(format!(
+            "antinode-plan-{}-{}",
+            std::process::id(),
+            options.len()
+        ));
+        std::fs::create_dir_all(&dir).unwrap();
+        std::fs::write(dir.join("g.toml"), BASE).unwrap();
+        let sweep = dir.join("s.toml");
+        std::fs::write(
+            &sweep,
+            format!(
+                "geometry = \"g.toml\"\nrun = [\"modes\"]\n[options]\nmodes = [{options}]\n\
+                 [[parameter]]\nkey = \"cavity.size.2\"\nvalues = [120.0]\n"
+            ),
+        )
+        .unwrap();
+        let s = SweepFile::from_file(&sweep).unwrap();
+        let v = s.variant(0, &dir.join("v.toml"));
+        let bytes = plan_bytes(&s, &v).unwrap();
+        let _ = std::fs::remove_dir_all(&dir);
+        bytes
+    }
+
+    #[test]
+    fn plan_applies_target_and_count() {
+        let with = sweep_plan("\"--target\", \"3.1\", \"--count\", \"60\"");
+        let by_hand = plan_of_file(&format!("{BASE}[solve]\ntarget = 3.1\ncount = 60\n"));
+        assert_eq!(with, by_hand);
+        // Without the options the plan is the file's own (target 2.45 GHz, 20 modes),
+        // and smaller: a coarser mesh and a smaller eigen basis.
+        let without = sweep_plan("\"--order\", \"1\"");
+        assert_eq!(without, plan_of_file(BASE));
+        assert!(without < with, "{without} {with}");
+    }
 }

@@ -39,13 +39,31 @@ fn line(sweep: &SweepFile, kind: RunKind, geometry: &Path, out: &Path) -> Vec<St
     l
 }
 
-/// The mesh options a command's sweep options give (for the memory plan).
-pub fn mesh_options(sweep: &SweepFile, kind: RunKind) -> Result<crate::commands::MeshOptions> {
+/// A variant's geometry and solver settings as a command of the sweep will run them: its
+/// `[options]` applied as the command applies them (`modes`: `--target`, `--band`,
+/// `--count`, the mesh options and `--wall-losses`; `drive`: the mesh options), for the
+/// memory plan.
+pub fn planned(
+    sweep: &SweepFile,
+    kind: RunKind,
+    geometry: &antinode_mesh::Geometry,
+) -> Result<(antinode_mesh::Geometry, antinode_solver::ModeSettings)> {
     let l = line(sweep, kind, Path::new("geometry.toml"), Path::new("out"));
-    Ok(match kind {
-        RunKind::Modes => ModesLine::try_parse_from(&l)?.args.mesh,
-        RunKind::Drive => DriveLine::try_parse_from(&l)?.args.mesh,
-    })
+    let mut g = geometry.clone();
+    let settings = match kind {
+        RunKind::Modes => {
+            let args = ModesLine::try_parse_from(&l)?.args;
+            modes::apply_overrides(&args, &mut g)?;
+            let mut s = antinode_solver::problem::settings_from(&g)?;
+            s.wall_losses = args.wall_losses.into();
+            s
+        }
+        RunKind::Drive => {
+            DriveLine::try_parse_from(&l)?.args.mesh.apply(&mut g)?;
+            antinode_solver::problem::settings_from(&g)?
+        }
+    };
+    Ok((g, settings))
 }
 
 /// Parses every command's options once, before anything runs.
@@ -81,12 +99,18 @@ pub struct Done {
 }
 
 /// SHA-256 of what determines a variant's results: the program version, the geometry
-/// text, the commands and their options.
+/// text, the turntable sampling, the commands and their options.
 pub fn content_hash(sweep: &SweepFile, v: &Variant) -> String {
     let mut h = Sha256::new();
     h.update(env!("CARGO_PKG_VERSION"));
     h.update([0]);
     h.update(&v.text);
+    if v.plate.is_some() {
+        // How a turntable variant samples its heating (results of another sampling are
+        // not reused by --resume).
+        h.update([0]);
+        h.update(super::plate::SAMPLING);
+    }
     for kind in &sweep.run {
         h.update([0]);
         h.update(kind.name());
@@ -160,8 +184,8 @@ pub fn run_one(sweep: &SweepFile, dir: &Path, v: &Variant) -> Result<()> {
                     (Some(plate), Ok(g)) => {
                         let names: Vec<String> = g.loads.iter().map(|l| l.name.clone()).collect();
                         let mut doc = None;
-                        drive::run_with(&args, &mut |mesh, r| {
-                            doc = Some(super::plate::samples(plate, &names, mesh, r)?);
+                        drive::run_with(&args, &mut |mesh, r, materials| {
+                            doc = Some(super::plate::samples(plate, &names, mesh, r, materials)?);
                             Ok(())
                         })?;
                         let doc = doc.ok_or_else(|| anyhow!("drive returned no response"))?;

@@ -138,3 +138,41 @@ fn a_load_leaving_the_cavity_at_some_angle_names_the_angle() {
         "{text}"
     );
 }
+
+#[test]
+fn a_riding_load_over_a_floor_aperture_names_the_load_port_and_angle() {
+    // A floor aperture x = 110 .. 190, y = 190 .. 230 mm. The dish (x = 180 .. 220,
+    // y = 130 .. 170 on the floor) turned a quarter turn about (150, 150) covers
+    // x = 130 .. 170, y = 180 .. 220, which reaches 30 mm into the aperture; at 0° and
+    // 180° it is clear of it (plane rotation by hand).
+    let port = "[[port]]\nname = \"feed\"\nwall = \"-z\"\ncenter = [150.0, 210.0]\nwidth = 80.0\nheight = 40.0\n";
+    let e = with(&format!(
+        "{port}[turntable]\ncenter = [150.0, 150.0]\nloads = [\"dish\"]\nsteps = 4\n"
+    ))
+    .unwrap_err();
+    let text = e.to_string();
+    assert!(
+        matches!(&e, GeometryError::AtPlateAngle { angle_deg, source, .. }
+            if *angle_deg == 90.0
+            && matches!(source.as_ref(), GeometryError::LoadAtPort { load, port, .. }
+                if load == "dish" && port == "feed")),
+        "{text}"
+    );
+    assert!(
+        text.contains("angle 90°")
+            && text.contains("load \"dish\"")
+            && text.contains("port \"feed\" (line "),
+        "{text}"
+    );
+    assert!(with(&format!(
+        "{port}[turntable]\ncenter = [150.0, 150.0]\nloads = [\"dish\"]\nangles_deg = [0.0, 180.0]\n"
+    ))
+    .is_ok());
+    // The same aperture on the roof is clear at every angle (the dish is 30 mm high in a
+    // 200 mm cavity).
+    let roof = port.replace("\"-z\"", "\"+z\"");
+    assert!(with(&format!(
+        "{roof}[turntable]\ncenter = [150.0, 150.0]\nloads = [\"dish\"]\nsteps = 4\n"
+    ))
+    .is_ok());
+}
