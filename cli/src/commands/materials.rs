@@ -61,7 +61,22 @@ pub fn run(args: &MaterialsArgs) -> Result<()> {
             } else {
                 ""
             };
-            println!("{:<22} {:>10.3} {:>10.4} {:>10.5}", e.name, er, ei, tand);
+            // Small loss factors (ice, plastics) in three significant digits, not as
+            // 0.0003.
+            let ei_text = if ei > 0.0 && ei < 0.01 {
+                format!("{ei:.3e}")
+            } else {
+                format!("{ei:.4}")
+            };
+            let tand_text = if tand > 0.0 && tand < 0.001 {
+                format!("{tand:.2e}")
+            } else {
+                format!("{tand:.5}")
+            };
+            println!(
+                "{:<22} {:>10.3} {:>10} {:>10}",
+                e.name, er, ei_text, tand_text
+            );
             println!("{:<22} how: {}{range}", "", e.valid_at);
             println!("{:<22} source: {}", "", e.source);
         }
