@@ -8,6 +8,7 @@
 //! from the cited table, or "common practice, no source".
 
 use crate::constants::EPS0;
+pub use crate::ice::{ice_maetzler, ICE_DEFAULT_TEMPERATURE_C, ICE_TEMPERATURE_RANGE_C};
 pub use crate::water::{
     water_debye, water_debye_params, water_double_debye, WaterDebyeParams,
     WATER_DEFAULT_TEMPERATURE_C, WATER_TEMPERATURE_RANGE_C,
@@ -24,6 +25,8 @@ pub enum Dielectric {
     },
     /// Liquid water, single Debye relaxation with temperature-dependent parameters.
     WaterDebye { temperature_c: f64 },
+    /// Pure ice, Mätzler's 1998 model with temperature ([`crate::ice`]).
+    IceMaetzler { temperature_c: f64 },
     /// ε′ and ε″ read from a published table at a few frequencies (one temperature),
     /// interpolated linearly in frequency between the rows and held at the end rows
     /// outside them ([`table_permittivity`]).
@@ -98,6 +101,7 @@ impl Material {
                 conductivity,
             } => (*eps_real, eps_imag + conductivity / (omega * EPS0)),
             Dielectric::WaterDebye { temperature_c } => water_debye(*temperature_c, freq_hz),
+            Dielectric::IceMaetzler { temperature_c } => ice_maetzler(*temperature_c, freq_hz),
             Dielectric::Tabulated { rows } => table_permittivity(rows, freq_hz),
         }
     }
@@ -150,6 +154,17 @@ impl Material {
              from c_p 4182 (from memory). Taken constant: by the same table ρ c_p is \
              0.9 % higher at 0 °C and 2.3 % lower at 80 °C",
         )
+    }
+
+    /// Pure ice at `temperature_c` (°C), Mätzler's model ([`crate::ice`]).
+    pub fn ice(temperature_c: f64) -> Material {
+        Material {
+            name: "ice".to_string(),
+            dielectric: Dielectric::IceMaetzler { temperature_c },
+            permeability: 1.0,
+            thermal: None,
+        }
+        .with_thermal(917.0, 2050.0, ICE_THERMAL_SOURCE)
     }
 }
 
@@ -205,6 +220,13 @@ impl MaterialEntry {
         }
     }
 }
+
+/// Where the ice entry's density and specific heat come from.
+const ICE_THERMAL_SOURCE: &str = "ρ 917 kg/m³ (ice at 0 °C), as read 2026-12-04 on the data \
+    page https://wfrjr.com/data/formula/data/water.html; c_p 2050 J/(kg K): from memory, \
+    not verified against a table (the pages read give 2.06 kJ/(kg K) there and 2.108 on the \
+    Engineering ToolBox page \"Water - Thermophysical Properties\", neither with a \
+    temperature)";
 
 /// Phrase for the `valid_at` of entries whose source gives one frequency.
 const CONSTANT_NO_DEPENDENCE: &str = "no frequency or temperature dependence modelled: the \
@@ -295,28 +317,30 @@ pub fn builtin_list() -> Vec<MaterialEntry> {
                        conduction",
             range_hz: Some([1.1e9, 57e9]),
         },
-        diel(
-            "ice",
-            (3.179, 2.89e-4, 2.45e9),
-            "eps' 3.179, eps'' 2.89e-4, tan d 9.1e-5 (pure ice at -10 °C, 2.45 GHz): \
-             evaluated here from the model of C. Mätzler, Microwave properties of ice and \
-             snow, in B. Schmitt et al. (eds.), Solar System Ices (Kluwer, 1998) 241: \
-             eps' = 3.1884 + 9.1e-4 (T - 273 K), eps'' = alpha/f + beta f, as transcribed \
-             in the routine epsice.m of the atmlab library (read 2026-12-04; the chapter \
-             itself not seen); eps' agrees with 3.17 +- 0.07, independent of frequency, \
-             that Matsuoka, Fujita & Mae, J. Appl. Phys. (1996), S0021-8979(96)01322-9, \
-             give from the reviews of Evans and of Warren (read in that paper's \
-             introduction). The ice model of Liebe, Hufford & Manabe (1993), as transcribed \
-             in atmlab's eps_ice_liebe93.m (read 2026-12-04), gives 3.15 - j2.0e-4 at the \
-             same point: the loss of pure ice is uncertain by about 1.5x. Changed from \
-             eps' 3.2, tan d 9e-4 (recalled as von Hippel, from memory): pure ice is 5-10 \
-             times less lossy than that; frozen food, with unfrozen brine in it, is far \
-             lossier than either",
-            "2.45 GHz, -10 °C; no frequency or temperature dependence modelled: the same \
-             values at every frequency and temperature (by the same model eps'' is \
-             1.9e-4 at -20 °C and 4.8e-4 at 0 °C)",
-            (917.0, 2050.0, "ρ 917 kg/m³ (ice at 0 °C), as read 2026-12-04 on the data page https://wfrjr.com/data/formula/data/water.html; c_p 2050 J/(kg K): from memory, not verified against a table (the pages read give 2.06 kJ/(kg K) there and 2.108 on the Engineering ToolBox page \"Water - Thermophysical Properties\", neither with a temperature)"),
-        ),
+        MaterialEntry {
+            name: "ice",
+            kind: MaterialKind::Dielectric,
+            values: MaterialValues::Dielectric(Material::ice(ICE_DEFAULT_TEMPERATURE_C)),
+            source: "model of C. Mätzler, Microwave properties of ice and snow, in B. \
+                     Schmitt et al. (eds.), Solar System Ices (Kluwer, 1998) 241: eps' = \
+                     3.1884 + 9.1e-4 (T - 273 K), eps'' = alpha/f + beta f, as transcribed \
+                     in the routine epsice.m of the atmlab library (read 2026-12-04; the \
+                     chapter itself not seen); at 2.45 GHz, -10 °C: 3.179 - j2.89e-4 (tan d \
+                     9.1e-5). eps' agrees with 3.17 +- 0.07, independent of frequency, that \
+                     Matsuoka, Fujita & Mae, J. Appl. Phys. (1996), S0021-8979(96)01322-9, \
+                     give from the reviews of Evans and of Warren (read in that paper's \
+                     introduction). The ice model of Liebe, Hufford & Manabe (1993), as \
+                     transcribed in atmlab's eps_ice_liebe93.m (read 2026-12-04), gives \
+                     3.15 - j2.0e-4 at the same point: the loss of pure ice is uncertain by \
+                     about 1.5x. Changed from the constant eps' 3.2, tan d 9e-4 (recalled as \
+                     von Hippel, from memory): pure ice is 5-10 times less lossy than that; \
+                     frozen food, with unfrozen brine in it, is far lossier than either",
+            valid_at: "any frequency in the model's 10 MHz-3 THz and the load's \
+                       temperature (key `temperature`, -60-0 °C, default -10 °C; by the \
+                       model eps'' at 2.45 GHz is 1.9e-4 at -20 °C and 4.8e-4 at 0 °C); \
+                       pure ice, no brine",
+            range_hz: Some(crate::ice::ICE_FREQUENCY_RANGE_HZ),
+        },
         MaterialEntry {
             name: "raw beef",
             kind: MaterialKind::Dielectric,
@@ -624,31 +648,27 @@ mod tests {
         assert_eq!(builtin("HDPE").map(|e| e.name), Some("polyethylene"));
     }
 
-    /// Ice against the model it was evaluated from: C. Mätzler (1998) as transcribed in
-    /// atmlab's epsice.m, ε′ = 3.1884 + 9.1e-4 (T − 273), ε″ = α/f + β f with
-    /// θ = 300/T − 1, α = (0.00504 + 0.0062 θ) e^(−22.1 θ),
-    /// β = (B1/T) e^(b/T)/(e^(b/T) − 1)² + B2 f² + e^(−10.02 + 0.0364 (T − 273)),
-    /// B1 = 0.0207, B2 = 1.16e-11, b = 335, f in GHz, T in K; at −10 °C and 2.45 GHz.
-    /// Tolerance: half a unit in the last stored digit (3.179: 5e-4; 2.89e-4: 5e-7).
+    /// The ice entry is Mätzler's model at −10 °C, and prints the values its source
+    /// string quotes (3.179 − j2.89e-4 at 2.45 GHz; tolerance half a unit of the last
+    /// quoted digit). The model itself is checked in `ice.rs`.
     #[test]
-    fn ice_is_maetzler_model_at_minus_10_c() {
-        let (tk, f) = (263.15f64, 2.45f64);
-        let theta = 300.0 / tk - 1.0;
-        let alpha = (0.00504 + 0.0062 * theta) * (-22.1 * theta).exp();
-        let x = (335.0 / tk).exp();
-        let beta = (0.0207 / tk) * x / ((x - 1.0) * (x - 1.0))
-            + 1.16e-11 * f * f
-            + (-10.02 + 0.0364 * (tk - 273.0)).exp();
-        let (er, ei) = (3.1884 + 9.1e-4 * (tk - 273.0), alpha / f + beta * f);
+    fn ice_entry_is_the_model_at_minus_10_c() {
         let Some(MaterialValues::Dielectric(m)) = builtin("ice").map(|e| e.values) else {
             panic!("ice is a built-in dielectric");
         };
+        assert_eq!(
+            m.dielectric,
+            Dielectric::IceMaetzler {
+                temperature_c: -10.0
+            }
+        );
         let (r, i) = m.permittivity(2.45e9);
-        assert!((r - er).abs() <= 5e-4, "{r} vs {er}");
-        assert!((i - ei).abs() <= 5e-7, "{i} vs {ei}");
-        // Independent of the model: ε′ = 3.17 ± 0.07 at microwave frequencies, the
-        // reviews' value quoted by Matsuoka, Fujita & Mae, J. Appl. Phys. (1996).
-        assert!((r - 3.17).abs() <= 0.07, "{r}");
+        assert!((r - 3.179).abs() <= 5e-4, "{r}");
+        assert!((i - 2.89e-4).abs() <= 5e-7, "{i}");
+        assert_eq!(
+            Material::ice(-20.0).permittivity(2.45e9),
+            ice_maetzler(-20.0, 2.45e9)
+        );
     }
 
     #[test]
