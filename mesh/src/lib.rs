@@ -9,6 +9,7 @@ pub mod error;
 pub mod faces;
 pub mod geometry;
 pub mod gmsh;
+pub mod ice;
 pub mod input;
 pub mod make;
 pub mod material;

@@ -566,6 +566,33 @@ fn water_temperature_checks() {
     rejects_load(BASE, "name = \"warm\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = \"ptfe\"\ntemperature = 40", "temperature", &["load \"warm\"", "40", "water"]);
 }
 
+/// An ice load takes a temperature in the ice model's accepted −60..0 °C (default −10):
+/// −18 °C is kept, +5 °C (liquid) is refused with the range in the message.
+#[test]
+fn ice_temperature_checks() {
+    let text = with_load(BASE, "name = \"block\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [10, 10, 10]\nmaterial = \"ice\"\ntemperature = -18");
+    let g = parse(&text).expect("parses");
+    assert_eq!(
+        g.load("block").expect("block").material.dielectric,
+        Dielectric::IceMaetzler {
+            temperature_c: -18.0
+        }
+    );
+    let text = with_load(BASE, "name = \"block\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [10, 10, 10]\nmaterial = \"ice\"");
+    assert_eq!(
+        parse(&text)
+            .expect("parses")
+            .load("block")
+            .expect("block")
+            .material
+            .dielectric,
+        Dielectric::IceMaetzler {
+            temperature_c: -10.0
+        }
+    );
+    rejects_load(BASE, "name = \"slush\"\nshape = \"box\"\nmin = [0, 0, 0]\nmax = [1, 1, 1]\nmaterial = \"ice\"\ntemperature = 5", "temperature", &["load \"slush\"", "5", "-60..0"]);
+}
+
 #[test]
 fn mesh_settings_checks() {
     let text = format!("{BASE}[mesh]\norder = 4\n");

@@ -9,8 +9,8 @@
 //! own. Run: `cargo bench -p antinode-tests --bench box_modes` (add `-- quick` for the
 //! small cases only, `-- yardstick` to also run the general-purpose Python path
 //! `tests/python/general_fem_box.py` when scikit-fem and scipy are installed,
-//! `-- high-order-yardstick` to run the high-order yardstick script `high_order_box.py`
-//! (ngsolve and scipy; its folder given by `ANTINODE_YARDSTICK_DIR`) at degrees 3 and 4
+//! `-- high-order-yardstick` to run the high-order script `tests/python/high_order_box.py`
+//! (ngsolve and scipy; another folder by `ANTINODE_YARDSTICK_DIR`) at degrees 3 and 4
 //! beside it, and `-- levels` for a shorter series around the three accuracy levels).
 //! One case alone:
 //! `ANTINODE_BENCH_ORDER=2 ANTINODE_BENCH_GRID=18,18,13` on the bench executable.
@@ -275,14 +275,13 @@ fn print_levels(results: &[(u8, String, f64, f64, f64)]) {
     }
 }
 
-/// `shared/yardstick/high_order_box.py` (a general-purpose high-order FEM library from the
+/// `tests/python/high_order_box.py` (a general-purpose high-order FEM library from the
 /// package registries) at degrees 3 and 4, run in this session for a side-by-side table.
 fn high_order_yardstick() {
-    // The shared notes sit beside the main checkout; a worktree elsewhere names their
-    // folder in ANTINODE_YARDSTICK_DIR.
-    let dir = std::env::var("ANTINODE_YARDSTICK_DIR").unwrap_or_else(|_| {
-        concat!(env!("CARGO_MANIFEST_DIR"), "/../../shared/yardstick").to_string()
-    });
+    // The script ships in the repository; ANTINODE_YARDSTICK_DIR names another folder
+    // holding a script of that name.
+    let dir = std::env::var("ANTINODE_YARDSTICK_DIR")
+        .unwrap_or_else(|_| concat!(env!("CARGO_MANIFEST_DIR"), "/python").to_string());
     let script = format!("{dir}/high_order_box.py");
     for (degree, maxh) in [("3", "40"), ("3", "30"), ("4", "40"), ("4", "30")] {
         let t = Instant::now();

@@ -11,7 +11,8 @@ pub struct MaterialsArgs {
     /// Frequency at which to evaluate permittivity and surface resistance, GHz.
     #[arg(short = 'f', long, value_name = "GHZ", default_value_t = 2.45)]
     pub frequency: f64,
-    /// Temperature of water, °C (0–100); other entries are fixed room-temperature values.
+    /// Temperature of water, °C (0–100); ice is shown at −10 °C, the other entries at the
+    /// temperature their source names (a load's `temperature` sets water's or ice's).
     #[arg(short = 't', long, value_name = "C", default_value_t = material::WATER_DEFAULT_TEMPERATURE_C)]
     pub temperature: f64,
 }
@@ -32,14 +33,17 @@ pub fn run(args: &MaterialsArgs) -> Result<()> {
     }
     let f_hz = ghz_to_hz(args.frequency);
     println!(
-        "Built-in materials at {} GHz (water at {} °C). Each dielectric's \"how\" line says \
-         how its value at this frequency follows from its source: water from its Debye \
-         model, raw beef by linear interpolation in its table, the others are constants \
+        "Built-in materials at {} GHz (water at {} °C, ice at its default {} °C). Each \
+         dielectric's \"how\" line says how its value at this frequency follows from its \
+         source: water from its Debye model, ice from its model, raw beef by linear \
+         interpolation in its table, the others are constants \
          printed as their source gives them at the frequency it names, whatever \
          --frequency says; \"outside the source's range\" marks a value the source does \
          not give at this frequency. Load materials use ε′, ε″ (εr = ε′ − jε″); wall \
          metals use conductivity σ and surface resistance Rs = √(ωμ0/2σ).",
-        args.frequency, args.temperature
+        args.frequency,
+        args.temperature,
+        material::ICE_DEFAULT_TEMPERATURE_C
     );
     println!();
     println!(
@@ -61,7 +65,22 @@ pub fn run(args: &MaterialsArgs) -> Result<()> {
             } else {
                 ""
             };
-            println!("{:<22} {:>10.3} {:>10.4} {:>10.5}", e.name, er, ei, tand);
+            // Small loss factors (ice, plastics) in three significant digits, not as
+            // 0.0003.
+            let ei_text = if ei > 0.0 && ei < 0.01 {
+                format!("{ei:.3e}")
+            } else {
+                format!("{ei:.4}")
+            };
+            let tand_text = if tand > 0.0 && tand < 0.001 {
+                format!("{tand:.2e}")
+            } else {
+                format!("{tand:.5}")
+            };
+            println!(
+                "{:<22} {:>10.3} {:>10} {:>10}",
+                e.name, er, ei_text, tand_text
+            );
             println!("{:<22} how: {}{range}", "", e.valid_at);
             println!("{:<22} source: {}", "", e.source);
         }

@@ -258,12 +258,26 @@ impl Ctx<'_> {
                 }
                 Ok(Material::water(tc))
             }
+            (Some(t), Dielectric::IceMaetzler { .. }) => {
+                let tc = *t.get_ref();
+                let [lo, hi] = material::ICE_TEMPERATURE_RANGE_C;
+                if !(tc.is_finite() && (lo..=hi).contains(&tc)) {
+                    return Err(self.invalid(
+                        t.span(),
+                        item,
+                        "temperature",
+                        tc,
+                        format!("the ice model is used over {lo}..{hi} °C"),
+                    ));
+                }
+                Ok(Material::ice(tc))
+            }
             (Some(t), _) => Err(self.invalid(
                 t.span(),
                 item,
                 "temperature",
                 t.get_ref(),
-                "applies only to material = \"water\"; other materials have fixed values",
+                "applies only to material = \"water\" or \"ice\"; other materials have fixed values",
             )),
         }
     }

@@ -41,7 +41,8 @@
 //! Extensions implemented here:
 //! - load `material` may also be `{ permittivity, conductivity }` (S/m); every material
 //!   table may carry `permeability` (default 1);
-//! - load `temperature` (°C, 0–100, default 20) sets the temperature of `material = "water"`;
+//! - load `temperature` (°C) sets the temperature of `material = "water"` (0–100, default
+//!   20) or `material = "ice"` (−60–0, default −10);
 //! - port `name` (default "port1", "port2", … by position), `angle_deg` for `wall = "side"`
 //!   (azimuth of the arc coordinate's origin, default 0), `rotated = true` to put the broad
 //!   side along the wall's second in-plane axis (see [`PortWall`]); `power` (W, ≥ 0) and
