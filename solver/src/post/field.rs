@@ -43,6 +43,10 @@ pub fn at_point(
     let mut curl = [[0.0; 3]; MAX_LOCAL];
     element.eval(&geo, l, &mut phi[..n]);
     element.eval_curl(&geo, l, &mut curl[..n]);
+    if let (Some(g), Some(c)) = (&space.curved, space.curved_tet(t)) {
+        // Curved tetrahedron: the mapped functions at F(l) (covariant Piola map).
+        g.map_values(&geo, c, l, &mut phi[..n], &mut curl[..n]);
+    }
     let mut e = [0.0; 3];
     let mut c = [0.0; 3];
     for (a, &d) in space.dofs.of_tet(t).iter().enumerate() {
@@ -87,7 +91,7 @@ pub fn node_values(space: &Space<'_>, coeffs: &[f64]) -> Vec<FieldAndCurl> {
     let mut sum = vec![([0.0; 3], [0.0; 3]); n_nodes];
     let mut weight = vec![0.0; n_nodes];
     for (t, vals) in per_tet.iter().enumerate() {
-        let w = space.tet_geometry(t).volume;
+        let w = space.tet_volume(t);
         for (i, &v) in space.topology.tets[t].iter().enumerate() {
             let s = &mut sum[v as usize];
             for k in 0..3 {
