@@ -10,11 +10,11 @@
 //!
 //! Checks.
 //! * The |S11| minimum of the driven sweep lies at the mode's resonance: for one
-//!   isolated resonance fed by a matched line, |Γ(f)| = |(κ − 1) − j2Q0δ| / |(κ + 1)
-//!   + j2Q0δ| is smallest at δ = 0 (Pozar, Microwave Engineering, 4th ed., §6.8,
-//!   coupling of a resonator; from memory), so |f_dip − f_mode| ≤ f/(2Q_L), half a
-//!   bandwidth (our bound for the neighbouring modes' background, no source), curved
-//!   and straight alike;
+//!   isolated resonance fed by a matched line, with δ = f/f0 − 1,
+//!   |Γ(f)| = |(κ − 1) − j2Q0δ| / |(κ + 1) + j2Q0δ|, smallest at δ = 0 (Pozar,
+//!   Microwave Engineering, 4th ed., §6.8, coupling of a resonator; from memory), so
+//!   |f_dip − f_mode| ≤ f/(2Q_L), half a bandwidth (our bound for the neighbouring
+//!   modes' background, no source), curved and straight alike;
 //! * curved against straight: the dip moves by what the mode moves, to the same half
 //!   bandwidth, and that move (the polygon's error) is at least four half bandwidths,
 //!   so the check tells the two meshes apart;
