@@ -180,8 +180,9 @@ fn pillbox_curved_rates_fine() {
 /// σ = 5.813e7 S/m (Pozar, Appendix F, from memory). Tolerance 1 % (the target);
 /// by perturbation the wall field is the element curl, whose error is O(h²) at order 2
 /// (see `losses_cylinder.rs`), so the mesh is the finer of the rate meshes; the impedance
-/// path takes n×E on the straight faces (measured 2026-12-03: +0.12 % impedance, −0.60 %
-/// perturbation curved; −0.28 % and −1.24 % on the polygon).
+/// path takes n×E on the curved faces (measured 2026-12-04: −9.5e-6 impedance, −0.60 %
+/// perturbation curved; −0.28 % and −1.24 % on the polygon; with n×E on the straight
+/// faces, 2026-12-03, the impedance path gave +0.12 %).
 #[test]
 fn pillbox_curved_tm010_wall_q() {
     use antinode_solver::constants::{C0, MU0};
