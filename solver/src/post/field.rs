@@ -1,8 +1,10 @@
 //! The fields of a computed mode on the mesh: E = Σ x_a φ_a, H and the heating density.
 //!
-//! * E and ∇×E at a point of a tetrahedron from the element functions; cell values at
-//!   each centroid; vertex values averaged over the incident tetrahedra weighted by
-//!   volume (the tangential part of E is continuous between elements, the normal part
+//! * E and ∇×E at a point of a tetrahedron from the element functions, mapped by the
+//!   covariant Piola map in curved tetrahedra ([`crate::fem::curved`]: E = J⁻ᵀΣxφ_s,
+//!   ∇×E = JΣx∇×φ_s/det J at F(l); the straight values differ from these by O(h) there);
+//!   cell values at each centre F(¼, ¼, ¼, ¼); vertex values (a vertex is not moved by
+//!   the map) averaged over the incident tetrahedra weighted by their (curved) volume (the tangential part of E is continuous between elements, the normal part
 //!   is not, so vertex values are for display). A complex field is evaluated on its real
 //!   and imaginary parts separately (linearity).
 //! * Scaling to stored energy. Modes are normalised to ∫ ε′|E|² dV = 1 m³ (peak phasor
