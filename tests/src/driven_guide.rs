@@ -114,6 +114,7 @@ pub fn guide_settings(
         ports: model.frames.clone(),
         drive,
         sweep: SweepOptions::default(),
+        curved: Default::default(),
     }
 }
 

@@ -32,6 +32,7 @@ fn settings(frames: &[antinode_solver::fem::port::PortFrame], band: Vec<f64>) ->
         ports: frames.to_vec(),
         drive,
         sweep: SweepOptions::default(),
+        curved: Default::default(),
     }
 }
 

@@ -22,6 +22,7 @@ use antinode_solver::constants::frequency_of;
 use antinode_solver::fem::curved::CurvedBoundary;
 use antinode_solver::fem::impedance::WallLosses;
 use antinode_solver::{solve_modes, ModeSettings, NedelecOrder, RegionMaterial};
+
 use antinode_tests::{k2_in, observed_order};
 use std::sync::Arc;
 
@@ -180,8 +181,9 @@ fn pillbox_curved_rates_fine() {
 /// σ = 5.813e7 S/m (Pozar, Appendix F, from memory). Tolerance 1 % (the issue's target);
 /// by perturbation the wall field is the element curl, whose error is O(h²) at order 2
 /// (see `losses_cylinder.rs`), so the mesh is the finer of the rate meshes; the impedance
-/// path takes n×E on the straight faces (measured 2026-12-03: +0.12 % impedance, −0.60 %
-/// perturbation curved; −0.28 % and −1.24 % on the polygon).
+/// path takes n×E on the curved faces (measured 2026-12-04: −9.5e-6 impedance, −0.60 %
+/// perturbation curved; −0.28 % and −1.24 % on the polygon; with n×E on the straight
+/// faces, 2026-12-03, the impedance path gave +0.12 %).
 #[test]
 fn pillbox_curved_tm010_wall_q() {
     use antinode_solver::constants::{C0, MU0};
@@ -252,4 +254,117 @@ target = 2.45
             rel(qs[0])
         );
     }
+}
+
+/// The field files use the curved map. TM010 of the PEC pillbox has E = ẑ E0 J0(kρ) and
+/// ∇×E = φ̂ E0 k J1(kρ), k = p01/a (Pozar 4th ed. §6.4), E0 from the solver's
+/// normalisation ∫|E|² dV = 1 m³: E0² π a² d J1(p01)² = 1 (∫0^a J0(kρ)² ρ dρ =
+/// a² J1(p01)²/2, A&S 11.4.5, from memory; J0, J1 from `libm`). In the curved
+/// tetrahedra the mapped curl J∇×φ_s/det J at the mapped centre F(¼, ¼, ¼, ¼) (the
+/// cell value H of the VTU files) must be closer to it than the same coefficients read
+/// with the straight functions at the straight centroid (the output before 2026-12-04).
+/// E at the vertices is printed too: for this mode the map hardly changes it (the
+/// displacement is radial and E axial, so J⁻ᵀE = E to first order), which the printout
+/// shows. Measured 2026-12-04 at 30 mm (order 2): curl 2.3e-2 mapped against 0.116
+/// straight; E 8.43e-3 against 8.37e-3 (vertex averaging dominates both).
+#[test]
+fn tm010_fields_use_curved_map() {
+    use antinode_solver::post::field::{cell_values, node_values};
+    let (a, d) = (A_MM * 1e-3, D_MM * 1e-3);
+    let toml = format!(
+        r#"
+title = "pillbox field"
+[cavity]
+shape = "cylinder"
+radius = {A_MM}
+height = {D_MM}
+walls = "pec"
+[mesh]
+order = 2
+per_wavelength = 1.0
+max_size = 30
+[solve]
+target = 2.45
+"#
+    );
+    let geom = Geometry::from_toml_str(&toml, None).expect("geometry");
+    let cm = mesh_geometry_curved(&geom).expect("mesh");
+    let k2 = (P01 / a).powi(2);
+    let mut s = ModeSettings::new(frequency_of(k2));
+    s.count = 1;
+    s.curved = Arc::new(CurvedBoundary {
+        surfaces: cm.surfaces.clone(),
+        faces: cm.surface_faces.clone(),
+    });
+    let set = solve_modes(&cm.mesh, &[RegionMaterial::VACUUM], &s, &mut |_| {}).expect("solve");
+    let m = set
+        .modes
+        .iter()
+        .min_by(|x, y| {
+            (x.k0_squared - k2)
+                .abs()
+                .total_cmp(&(y.k0_squared - k2).abs())
+        })
+        .expect("a mode");
+    let k = P01 / a;
+    let e0 = 1.0 / (std::f64::consts::PI * a * a * d * libm::j1(P01).powi(2)).sqrt();
+    let curved = set.space.curved.clone().expect("curved tetrahedra");
+    let mut straight = set.space.clone();
+    straight.curved = None;
+    // The sign of the computed mode from E at the vertex nearest the axis.
+    let mapped_nodes = node_values(&set.space, &m.coefficients);
+    let plain_nodes = node_values(&straight, &m.coefficients);
+    let r = |p: [f64; 3]| p[0].hypot(p[1]);
+    let centre = (0..cm.mesh.nodes.len())
+        .min_by(|&i, &j| r(cm.mesh.nodes[i]).total_cmp(&r(cm.mesh.nodes[j])))
+        .expect("nodes");
+    let sign = mapped_nodes[centre].0[2].signum();
+    let curl_exact = |p: [f64; 3]| {
+        let rho = r(p);
+        let h = sign * e0 * k * libm::j1(k * rho);
+        [-h * p[1] / rho, h * p[0] / rho, 0.0]
+    };
+    let dist = |u: [f64; 3], v: [f64; 3]| {
+        ((u[0] - v[0]).powi(2) + (u[1] - v[1]).powi(2) + (u[2] - v[2]).powi(2)).sqrt()
+    };
+    let mapped_cells = cell_values(&set.space, &m.coefficients);
+    let plain_cells = cell_values(&straight, &m.coefficients);
+    let scale = e0 * k * libm::j1(P01);
+    let (mut wm, mut wp, mut n) = (0.0f64, 0.0f64, 0);
+    for t in 0..set.space.n_tets() {
+        let Some(c) = curved.tet(t) else { continue };
+        let x = set.space.tet_vertices(t);
+        let pm = c.position(curved.degree(), &x, [0.25; 4]);
+        let ps: [f64; 3] = std::array::from_fn(|i| 0.25 * (x[0][i] + x[1][i] + x[2][i] + x[3][i]));
+        wm = wm.max(dist(mapped_cells[t].1, curl_exact(pm)) / scale);
+        wp = wp.max(dist(plain_cells[t].1, curl_exact(ps)) / scale);
+        n += 1;
+    }
+    // E at the vertices of curved tetrahedra.
+    let mut on = vec![false; cm.mesh.nodes.len()];
+    for (t, verts) in set.space.topology.tets.iter().enumerate() {
+        if curved.tet(t).is_some() {
+            for &v in verts {
+                on[v as usize] = true;
+            }
+        }
+    }
+    let e_err = |vals: &[([f64; 3], [f64; 3])]| {
+        (0..cm.mesh.nodes.len())
+            .filter(|&i| on[i])
+            .map(|i| {
+                let p = cm.mesh.nodes[i];
+                let ez = sign * e0 * libm::j0(k * r(p));
+                dist(vals[i].0, [0.0, 0.0, ez]) / e0
+            })
+            .fold(0.0, f64::max)
+    };
+    println!(
+        "TM010, {n} curved tets: worst |∇×E − exact| / (E0 k J1(p01)) at the cell centres: \
+         mapped {wm:.3e}, straight functions {wp:.3e}; worst |E − exact|/E0 at their \
+         vertices: mapped {:.3e}, straight functions {:.3e}",
+        e_err(&mapped_nodes),
+        e_err(&plain_nodes)
+    );
+    assert!(wm < wp, "mapped curl {wm:.3e} not below straight {wp:.3e}");
 }

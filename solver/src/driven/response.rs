@@ -175,8 +175,7 @@ pub fn cell_heating(
                 if eps_imag == 0.0 {
                     return 0.0;
                 }
-                let geo = space.tet_geometry(t);
-                element.matrices(&geo, kc, mm);
+                space.element_matrices(&element, t, kc, mm);
                 let td = space.dofs.of_tet(t);
                 let (lr, li) = xl.split_at_mut(nl);
                 for (a, &d) in td.iter().enumerate() {
@@ -190,7 +189,7 @@ pub fn cell_heating(
                         e2 += mm[a * nl + b] * (lr[a] * lr[b] + li[a] * li[b]);
                     }
                 }
-                0.5 * omega * EPS0 * eps_imag * e2 / geo.volume
+                0.5 * omega * EPS0 * eps_imag * e2 / space.tet_volume(t)
             },
         )
         .collect()
@@ -227,7 +226,7 @@ pub fn point_heating(
 pub fn region_cells(space: &Space<'_>, heating: &[f64], region: usize) -> Vec<(f64, f64)> {
     (0..space.n_tets())
         .filter(|&t| space.mesh.tet_region[t] as usize == region)
-        .map(|t| (heating[t], space.tet_geometry(t).volume))
+        .map(|t| (heating[t], space.tet_volume(t)))
         .collect()
 }
 

@@ -16,12 +16,14 @@ use super::sweep::{sweep, Sweep, SweepOptions, SweepStep};
 use super::system::{DrivenOperator, MaterialsAt};
 use crate::constants::{wavenumber, C0};
 use crate::error::SolverError;
+use crate::fem::curved::CurvedBoundary;
 use crate::fem::port::PortFrame;
 use crate::fem::NedelecOrder;
 use crate::linalg::sparse::spmv;
 use crate::modes::operator::{ComplexFactor, ComplexForm, ComplexParts};
 use antinode_mesh::TetMesh;
 use faer::{c64, Mat};
+use std::sync::Arc;
 use std::time::Instant;
 
 /// What to solve.
@@ -42,6 +44,9 @@ pub struct DriveSettings {
     /// Incident power waves per port, √W with phase (|ã|² = forward power).
     pub drive: Vec<c64>,
     pub sweep: SweepOptions,
+    /// Curved surfaces and the faces on them (empty: every tetrahedron straight), as
+    /// [`crate::ModeSettings::curved`].
+    pub curved: Arc<CurvedBoundary>,
 }
 
 /// Long-running stages, for a progress display.
@@ -201,6 +206,7 @@ pub fn solve_driven<'m>(
         mu_r,
         &settings.ports,
         settings.wall_conductivity.is_some(),
+        &settings.curved,
     )?;
     let system = op.affine(materials, settings.wall_conductivity);
     let norms = op.constraint.norm.clone();

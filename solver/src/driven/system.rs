@@ -29,11 +29,17 @@
 //!
 //! with M_r the unit-permittivity mass matrix of region r, so dispersive loads (water)
 //! are evaluated at every frequency.
+//!
+//! Curved elements: with a [`CurvedBoundary`] the space's tetrahedra along the cylinder
+//! sides are curved ([`crate::fem::curved`]), so K, M_r and W are the curved element and
+//! wall-face matrices the mode solve uses; the port apertures keep their straight-face
+//! TE10 constraint (as in the mode solve).
 
 use super::affine::{AffineSystem, Source, Term};
 use crate::constants::{C0, MU0};
 use crate::error::SolverError;
 use crate::fem::assembly::{assemble, RegionMaterial};
+use crate::fem::curved::CurvedBoundary;
 use crate::fem::impedance::{wall_face_matrix, WallIntegral};
 use crate::fem::port::{port_constraint, PortConstraint, PortFrame, Reduction};
 use crate::fem::{NedelecOrder, Space};
@@ -94,13 +100,17 @@ fn without_zeros(a: &SparseMatrix) -> SparseMatrix {
 
 impl<'m> DrivenOperator<'m> {
     /// Assemble on `mesh` at `order` with the given ports (at least one) and the
-    /// regions' permeabilities; `lossy_walls` adds the wall matrix.
+    /// regions' permeabilities; `lossy_walls` adds the wall matrix. The tetrahedra along
+    /// `curved`'s surfaces get curved geometry maps ([`crate::fem::curved`]; an empty
+    /// boundary keeps every tetrahedron straight), as in the mode solve: the volume
+    /// matrices, the wall term and the heating integrals then use the curved elements.
     pub fn assemble(
         mesh: &'m TetMesh,
         order: NedelecOrder,
         mu_r: &[f64],
         frames: &[PortFrame],
         lossy_walls: bool,
+        curved: &CurvedBoundary,
     ) -> Result<Self, SolverError> {
         if frames.is_empty() {
             return Err(SolverError::NoPorts);
@@ -112,7 +122,7 @@ impl<'m> DrivenOperator<'m> {
             });
         }
         let t0 = Instant::now();
-        let space = Space::with_ports(mesh, order, frames.len());
+        let space = Space::with_ports(mesh, order, frames.len()).with_curved(curved)?;
         if space.n_dofs() == 0 {
             return Err(SolverError::NoUnknowns);
         }

@@ -107,8 +107,10 @@ pub enum WallIntegral {
     CurlTrace,
 }
 
-/// The wall-face matrix `which` on the space's free unknowns (exact face integrals,
-/// [`NedelecTet::face_matrices`]).
+/// The wall-face matrix `which` on the space's free unknowns: exact face integrals
+/// ([`NedelecTet::face_matrices`]) on straight tetrahedra, quadrature over the curved
+/// face ([`crate::fem::curved::CurvedGeometry::face_matrices`]) on curved ones, so the
+/// wall term sees the same curved wall as the volume matrices.
 pub fn wall_face_matrix(space: &Space<'_>, which: WallIntegral) -> SparseMatrix {
     let element = NedelecTet::new(space.order());
     let nl = element.len();
@@ -123,8 +125,15 @@ pub fn wall_face_matrix(space: &Space<'_>, which: WallIntegral) -> SparseMatrix 
             }
             let x = space.tet_vertices(t);
             let geo = space.tet_geometry(t);
-            let (normal, area) = face_normal_area(&x, lf);
-            element.face_matrices(&geo, lf, area, normal, &mut mass, &mut curl);
+            match (&space.curved, space.curved_tet(t)) {
+                (Some(g), Some(c)) => {
+                    g.face_matrices(&element, &geo, &x, c, lf, &mut mass, &mut curl)
+                }
+                _ => {
+                    let (normal, area) = face_normal_area(&x, lf);
+                    element.face_matrices(&geo, lf, area, normal, &mut mass, &mut curl);
+                }
+            }
             let m = match which {
                 WallIntegral::Trace => &mass,
                 WallIntegral::CurlTrace => &curl,

@@ -1,8 +1,10 @@
 //! The fields of a computed mode on the mesh: E = Σ x_a φ_a, H and the heating density.
 //!
-//! * E and ∇×E at a point of a tetrahedron from the element functions; cell values at
-//!   each centroid; vertex values averaged over the incident tetrahedra weighted by
-//!   volume (the tangential part of E is continuous between elements, the normal part
+//! * E and ∇×E at a point of a tetrahedron from the element functions, mapped by the
+//!   covariant Piola map in curved tetrahedra ([`crate::fem::curved`]: E = J⁻ᵀΣxφ_s,
+//!   ∇×E = JΣx∇×φ_s/det J at F(l); the straight values differ from these by O(h) there);
+//!   cell values at each centre F(¼, ¼, ¼, ¼); vertex values (a vertex is not moved by
+//!   the map) averaged over the incident tetrahedra weighted by their (curved) volume (the tangential part of E is continuous between elements, the normal part
 //!   is not, so vertex values are for display). A complex field is evaluated on its real
 //!   and imaginary parts separately (linearity).
 //! * Scaling to stored energy. Modes are normalised to ∫ ε′|E|² dV = 1 m³ (peak phasor
@@ -43,6 +45,10 @@ pub fn at_point(
     let mut curl = [[0.0; 3]; MAX_LOCAL];
     element.eval(&geo, l, &mut phi[..n]);
     element.eval_curl(&geo, l, &mut curl[..n]);
+    if let (Some(g), Some(c)) = (&space.curved, space.curved_tet(t)) {
+        // Curved tetrahedron: the mapped functions at F(l) (covariant Piola map).
+        g.map_values(&geo, c, l, &mut phi[..n], &mut curl[..n]);
+    }
     let mut e = [0.0; 3];
     let mut c = [0.0; 3];
     for (a, &d) in space.dofs.of_tet(t).iter().enumerate() {
@@ -87,7 +93,7 @@ pub fn node_values(space: &Space<'_>, coeffs: &[f64]) -> Vec<FieldAndCurl> {
     let mut sum = vec![([0.0; 3], [0.0; 3]); n_nodes];
     let mut weight = vec![0.0; n_nodes];
     for (t, vals) in per_tet.iter().enumerate() {
-        let w = space.tet_geometry(t).volume;
+        let w = space.tet_volume(t);
         for (i, &v) in space.topology.tets[t].iter().enumerate() {
             let s = &mut sum[v as usize];
             for k in 0..3 {

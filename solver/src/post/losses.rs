@@ -128,12 +128,9 @@ pub fn mode_integrals(space: &Space<'_>, modes: &[(&[f64], &[f64])]) -> Vec<Mode
                 for &lf in &wall_faces {
                     match (&space.curved, space.curved_tet(t)) {
                         (Some(g), Some(c)) => {
-                            // ∮|n×E|² on the straight face (the impedance walls' term in
-                            // the solve is assembled on straight faces too); ∮|n×∇×E|² on
-                            // the curved one.
-                            let (normal, area) = face_normal_area(&x, lf);
-                            element.face_matrices(&geo, lf, area, normal, &mut mm, &mut kc);
-                            g.face_curl_matrix(&element, &geo, &x, c, lf, &mut kc)
+                            // Both on the curved face, as the impedance walls' term in the
+                            // solve (`fem::impedance::wall_face_matrix`).
+                            g.face_matrices(&element, &geo, &x, c, lf, &mut mm, &mut kc)
                         }
                         _ => {
                             let (normal, area) = face_normal_area(&x, lf);

@@ -80,6 +80,10 @@ pub struct DriveArgs {
     /// Solve even when the memory estimate exceeds the memory available.
     #[arg(long)]
     pub allow_large: bool,
+    /// Keep every tetrahedron straight (cylinder sides as the meshed polygon) instead of
+    /// curving the elements on them; for comparison.
+    #[arg(long)]
+    pub straight: bool,
 }
 
 /// The sweep frequencies (GHz) from --band, --points, --step and the file.
@@ -191,8 +195,16 @@ pub fn run_with(
         args.allow_large,
     )?;
     let out = folder::prepare(&super::output_dir(args.out.as_deref(), &args.geometry))?;
-    let (mesh, mesh_s) = super::mesh::make(&geom)?;
+    let (curved_mesh, mesh_s) = super::mesh::make_curved(&geom)?;
+    let mesh = curved_mesh.mesh;
     check_plan(args, &mesh, &geom)?;
+    let curved = match args.straight {
+        true => Default::default(),
+        false => std::sync::Arc::new(antinode_solver::fem::curved::CurvedBoundary {
+            surfaces: curved_mesh.surfaces,
+            faces: curved_mesh.surface_faces,
+        }),
+    };
 
     let settings = DriveSettings {
         order,
@@ -207,6 +219,7 @@ pub fn run_with(
             tolerance,
             ..SweepOptions::default()
         },
+        curved,
     };
     let materials = |f: f64| region_materials(&geom, f);
     let spinner = Spinner::start("driven solve");
