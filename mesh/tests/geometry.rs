@@ -167,11 +167,11 @@ fn defaults_apply() {
     );
     let g = parse(&text).expect("valid");
     // Defaults from the mesh-size study (README, Accuracy by order and mesh size): order 3
-    // at 2.5 per wavelength, max_size λ0/2.5 at 2.45 GHz = 299.79/2.45/2.5 = 48.95 mm.
+    // at 3 per wavelength, max_size λ0/3 at 2.45 GHz = 299.79/2.45/3 = 40.79 mm.
     assert_eq!(g.mesh.order, 3);
-    assert_eq!(g.mesh.per_wavelength, 2.5);
+    assert_eq!(g.mesh.per_wavelength, 3.0);
     assert!(
-        (g.mesh.max_size - 48.945).abs() < 1e-3,
+        (g.mesh.max_size - 40.788).abs() < 1e-3,
         "{}",
         g.mesh.max_size
     );

@@ -142,7 +142,7 @@ pub fn check_solve(
             plan.n_dofs,
             order.as_int(),
             if plan.complex {
-                ", complex: solved as a real system of twice the size"
+                ", complex: an n × n factor of 16-byte complex entries"
             } else {
                 ""
             },

@@ -47,9 +47,10 @@ pub const MIN_PER_WAVELENGTH: f64 = 3.0;
 /// 7.9e-4–6.0e-3, below order 1's level, and 1.3 is the coarsest size measured, so the
 /// threshold stops there (README "Accuracy by order and mesh size"). Each order thus
 /// warns at about the same "not resolved" error, not at the same element count. The
-/// defaults (`antinode_mesh::geometry::default_per_wavelength`: 10, 5, 2.5) gave mean-edge
-/// sizes of 9.2–9.4, 4.3–4.6 and 2.3–2.4 on the references, well above the thresholds, so
-/// a run at the defaults does not warn.
+/// defaults (`antinode_mesh::geometry::default_per_wavelength`: 10, 5, 3) gave mean-edge
+/// sizes of 9.2–9.4, 4.3–4.6 and 2.6–2.7 on the references (and at least 2.2 in every
+/// region of the examples in `geometries/` at their new defaults, README Performance),
+/// above the thresholds, so a run at the defaults does not warn.
 pub fn min_per_wavelength(order: NedelecOrder) -> f64 {
     match order {
         NedelecOrder::One => MIN_PER_WAVELENGTH,
@@ -213,9 +214,9 @@ impl std::fmt::Display for RunWarning {
                 f,
                 "settings are coarse for this band: order {order} at this mesh size gives an \
                  expected frequency error of {relative_error:.1e} (±{:.2} MHz, from the \
-                 empty-box benchmark), more than {SPACING_SHARE} of the mean spacing of the \
+                 mesh-size study), more than {SPACING_SHARE} of the mean spacing of the \
                  modes found ({:.2} MHz): neighbouring modes may be misplaced, merged or split; \
-                 use --order 2 or a larger --per-wavelength",
+                 use a higher --order or a larger --per-wavelength",
                 error_hz * 1e-6,
                 spacing_hz * 1e-6
             ),
