@@ -48,8 +48,8 @@ pub const MIN_PER_WAVELENGTH: f64 = 3.0;
 /// threshold stops there (README "Accuracy by order and mesh size"). Each order thus
 /// warns at about the same "not resolved" error, not at the same element count. The
 /// defaults (`antinode_mesh::geometry::default_per_wavelength`: 10, 5, 3) gave mean-edge
-/// sizes of 9.2–9.4, 4.3–4.6 and 2.6–2.7 on the references (and at least 2.2 in every
-/// region of the examples in `geometries/` at their new defaults, README Performance),
+/// sizes of 9.2–9.4, 4.3–4.6 and 2.6–2.7 on the references (and 2.6–2.9 in the coarsest
+/// region of each example in `geometries/` at the new defaults, README Performance),
 /// above the thresholds, so a run at the defaults does not warn.
 pub fn min_per_wavelength(order: NedelecOrder) -> f64 {
     match order {
