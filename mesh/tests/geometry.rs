@@ -139,6 +139,26 @@ fn bowl_on_plate_contents() {
     assert_eq!(g.solve.band, Some([2.40, 2.50]));
 }
 
+/// Sizes not given follow the order and target: an explicit order 2 takes 5 per
+/// wavelength, a 5 GHz target halves the default max_size; given sizes stay.
+#[test]
+fn size_defaults_follow_order_and_target() {
+    let g = parse(&format!("{BASE}[mesh]\norder = 2\n[solve]\ntarget = 5.0\n")).expect("valid");
+    assert_eq!(g.mesh.per_wavelength, 5.0);
+    assert!((g.mesh.max_size - 299.792458 / 5.0 / 5.0).abs() < 1e-9);
+    let mut g = parse(&format!("{BASE}[mesh]\nper_wavelength = 4.0\n")).expect("valid");
+    assert_eq!((g.mesh.order, g.mesh.per_wavelength), (3, 4.0));
+    assert!((g.mesh.max_size - 299.792458 / 2.45 / 4.0).abs() < 1e-9);
+    // As `--order 1` does: the given per_wavelength stays, max_size follows it.
+    g.mesh.order = 1;
+    g.mesh.apply_defaults(2.45);
+    assert_eq!(g.mesh.per_wavelength, 4.0);
+    let mut g = parse(&format!("{BASE}[mesh]\nmax_size = 30.0\n")).expect("valid");
+    g.mesh.order = 1;
+    g.mesh.apply_defaults(2.45);
+    assert_eq!((g.mesh.per_wavelength, g.mesh.max_size), (10.0, 30.0));
+}
+
 #[test]
 fn defaults_apply() {
     let text = format!(
@@ -146,9 +166,16 @@ fn defaults_apply() {
          [[port]]\nwall = \"-y\"\ncenter = [100.0, 100.0]\nwidth = 80\nheight = 40\n"
     );
     let g = parse(&text).expect("valid");
-    assert_eq!(g.mesh.order, 2);
-    assert_eq!(g.mesh.per_wavelength, 6.0);
-    assert_eq!(g.mesh.max_size, 20.0);
+    // Defaults from the mesh-size study (README, Accuracy by order and mesh size): order 3
+    // at 3 per wavelength, max_size λ0/3 at 2.45 GHz = 299.79/2.45/3 = 40.79 mm.
+    assert_eq!(g.mesh.order, 3);
+    assert_eq!(g.mesh.per_wavelength, 3.0);
+    assert!(
+        (g.mesh.max_size - 40.788).abs() < 1e-3,
+        "{}",
+        g.mesh.max_size
+    );
+    assert!(!g.mesh.per_wavelength_given && !g.mesh.max_size_given);
     assert_eq!(g.solve.target, 2.45);
     assert_eq!(g.solve.count, Some(20));
     assert_eq!(g.ports[0].name, "port1");

@@ -60,7 +60,14 @@ fn mesh_warning_docs(geom: &Geometry, mesh: &TetMesh) -> Vec<crate::output::revi
     let mats = antinode_solver::problem::region_materials(geom, target_hz);
     cavity_warning(geom)
         .into_iter()
-        .chain(mesh_warnings(mesh, &mats, target_hz))
+        .chain(mesh_warnings(
+            mesh,
+            &mats,
+            target_hz,
+            // An order the solver lacks gets order 1's floor (the solve then refuses it).
+            antinode_solver::NedelecOrder::from_int(geom.mesh.order)
+                .unwrap_or(antinode_solver::NedelecOrder::One),
+        ))
         .map(|w| crate::output::review::warning_doc(&w))
         .collect()
 }

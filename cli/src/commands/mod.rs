@@ -54,17 +54,22 @@ pub struct MeshOptions {
 }
 
 impl MeshOptions {
-    /// Apply the given options to the geometry's `[mesh]` table (before meshing).
+    /// Apply the given options to the geometry's `[mesh]` table (before meshing, after
+    /// any `--target`): sizes neither given in the file nor here take the defaults of the
+    /// resulting order at the resulting target.
     pub fn apply(&self, geom: &mut Geometry) -> Result<()> {
         if let Some(o) = self.order {
             geom.mesh.order = o;
         }
         if let Some(p) = self.per_wavelength {
             geom.mesh.per_wavelength = positive("--per-wavelength", p)?;
+            geom.mesh.per_wavelength_given = true;
         }
         if let Some(m) = self.max_size {
             geom.mesh.max_size = positive("--max-size", m)?;
+            geom.mesh.max_size_given = true;
         }
+        geom.mesh.apply_defaults(geom.solve.target);
         Ok(())
     }
 }

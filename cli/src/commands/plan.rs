@@ -142,7 +142,7 @@ pub fn check_solve(
             plan.n_dofs,
             order.as_int(),
             if plan.complex {
-                ", complex: solved as a real system of twice the size"
+                ", complex: an n × n factor of 16-byte complex entries"
             } else {
                 ""
             },
@@ -222,7 +222,11 @@ pub fn shrink_hint(order: NedelecOrder) -> String {
     let coarser = "a smaller --per-wavelength or a larger --max-size";
     match order {
         NedelecOrder::One => format!("use {coarser}, or pass --allow-large to try anyway"),
-        _ => format!("use --order 1, {coarser}, or pass --allow-large to try anyway"),
+        // Order 1 at its own default size (10 per wavelength) is larger, not smaller.
+        _ => format!(
+            "use {coarser}, or --order 1 with a --per-wavelength of 3–4 (its default, 10, \
+             is finer), or pass --allow-large to try anyway"
+        ),
     }
 }
 

@@ -6,7 +6,8 @@ use antinode_solver::post::warnings::{RunReview, RunWarning};
 use serde::Serialize;
 
 /// Where the accuracy estimate comes from, for the documents.
-pub const ACCURACY_BASIS: &str = "interpolated from the empty-box benchmark (order, \
+pub const ACCURACY_BASIS: &str =
+    "interpolated from the mesh-size study (box, loaded cavity and pillbox; order, \
     elements per local wavelength by mean edge length; README, Accuracy): an estimate for \
     well-shaped meshes and smooth fields, not a bound";
 

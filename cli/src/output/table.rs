@@ -246,7 +246,7 @@ fn print_band(doc: &ModesDoc) {
     match doc.accuracy.expected_relative_error {
         Some(e) => println!(
             "  expected accuracy: ~{e:.1e} relative (±{:.2} MHz at the target) at order {} with \
-             {:.1} elements per local wavelength ({}; estimate from the empty-box benchmark, \
+             {:.1} elements per local wavelength ({}; estimate from the mesh-size study, \
              README Accuracy)",
             e * doc.target_ghz * 1e3,
             doc.order,
@@ -254,7 +254,7 @@ fn print_band(doc: &ModesDoc) {
             doc.accuracy.coarsest_region
         ),
         None => println!(
-            "  expected accuracy: no benchmark for order {} ({:.1} elements per local wavelength)",
+            "  expected accuracy: no study data for order {} ({:.1} elements per local wavelength)",
             doc.order, doc.accuracy.elements_per_wavelength
         ),
     }

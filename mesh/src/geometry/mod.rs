@@ -28,9 +28,9 @@
 //! width = 86.36                  # broad side (mm)
 //! height = 43.18                 # narrow side (mm)
 //! [mesh]
-//! order = 2                      # element order the solver will use (1, 2 or 3)
-//! per_wavelength = 6.0           # elements per local wavelength at the target frequency
-//! max_size = 20.0                # mm, upper bound on element size anywhere
+//! order = 3                      # element order the solver will use (1, 2 or 3)
+//! per_wavelength = 3.0           # elements per local wavelength at the target frequency
+//! max_size = 41.0                # mm, upper bound on element size anywhere
 //! method = "extruded"            # or "graded": fine only in and near the loads (optional)
 //! [solve]
 //! target = 2.45                  # GHz
@@ -51,8 +51,11 @@
 //! - `[mesh]` `import = "file.msh"` (Gmsh MSH 4.1, relative to the geometry file),
 //!   `unit_mm` (mm per file unit, default 1) and a `[mesh.groups]` table mapping physical
 //!   group names to "air", "wall", a load name or a port name; loads need no shape then;
-//! - defaults: `[mesh]` order 2, per_wavelength 6, max_size 20 mm; `[solve]` target
-//!   2.45 GHz, count 20 when no band is given.
+//! - defaults: `[mesh]` order 3; per_wavelength by order ([`default_per_wavelength`]:
+//!   10, 5 and 3 at orders 1, 2 and 3, from the mesh-size study), max_size
+//!   λ0/per_wavelength at the target ([`default_max_size_mm`]; 41 mm at order 3 and
+//!   2.45 GHz), each taken only when not given, after `--order`/`--target`;
+//!   `[solve]` target 2.45 GHz, count 20 when no band is given.
 //!
 //! - `[turntable]`: loads riding on a turning plate, with the angles a sweep runs
 //!   ([`turntable`]); the file's placement is plate angle 0.

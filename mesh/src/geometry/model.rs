@@ -185,10 +185,16 @@ pub struct Port {
 pub struct MeshSettings {
     /// Element order the solver will use (1, 2 or 3).
     pub order: u8,
-    /// Elements per local wavelength at the target frequency.
+    /// Elements per local wavelength at the target frequency (the order's default,
+    /// [`default_per_wavelength`], unless given).
     pub per_wavelength: f64,
-    /// Upper bound on element size anywhere (mm).
+    /// Upper bound on element size anywhere (mm; by default λ0/per_wavelength at the
+    /// target, [`default_max_size_mm`], so it caps nothing the size rule does not).
     pub max_size: f64,
+    /// Whether `per_wavelength` was given (file or command line) rather than defaulted.
+    pub per_wavelength_given: bool,
+    /// Whether `max_size` was given (file or command line) rather than defaulted.
+    pub max_size_given: bool,
     /// Optional imported mesh (Gmsh MSH 4.1), resolved relative to the geometry file.
     pub import: Option<MeshImport>,
     /// How the built-in mesher builds the mesh (`method` in the file).
@@ -229,11 +235,46 @@ pub struct SolveSettings {
 }
 
 /// Default element order.
-pub const DEFAULT_ORDER: u8 = 2;
-/// Default elements per local wavelength.
-pub const DEFAULT_PER_WAVELENGTH: f64 = 6.0;
-/// Default upper bound on element size, mm.
-pub const DEFAULT_MAX_SIZE_MM: f64 = 20.0;
+pub const DEFAULT_ORDER: u8 = 3;
+/// Default elements per local wavelength of element order `order` (1, 2 or 3), chosen
+/// from the mesh-size study (`tests/tests/mesh_size_study.rs`, README "Accuracy by order
+/// and mesh size"): the cheapest size of the series that keeps the worst frequency error
+/// of the box, the loaded case and the cylinder references near 1e-3 or below and the
+/// loaded case's Q within 2 % — 10 and 5 at orders 1 and 2; at order 3 that is 2.5, and
+/// the default takes 3 because the mesher realises coarser elements than asked in small
+/// loads (the fed box's 60 × 60 × 40 mm PTFE block: 1.85 per wavelength by mean edge at an
+/// asked 2.5, an expected error of 2e-3; 2.9 at an asked 3).
+pub fn default_per_wavelength(order: u8) -> f64 {
+    match order {
+        1 => DEFAULT_PER_WAVELENGTH_BY_ORDER[0],
+        2 => DEFAULT_PER_WAVELENGTH_BY_ORDER[1],
+        _ => DEFAULT_PER_WAVELENGTH_BY_ORDER[2],
+    }
+}
+
+/// [`default_per_wavelength`] for orders 1, 2 and 3.
+pub const DEFAULT_PER_WAVELENGTH_BY_ORDER: [f64; 3] = [10.0, 5.0, 3.0];
+
+/// Default upper bound on element size (mm): the free-space wavelength at `target_ghz`
+/// over `per_wavelength`, i.e. the air's own size, so the cap never makes the air finer
+/// than the size rule asks (a fixed 20 mm cap did, at order 3: λ0/3 = 41 mm at
+/// 2.45 GHz).
+pub fn default_max_size_mm(per_wavelength: f64, target_ghz: f64) -> f64 {
+    crate::constants::C0 / (target_ghz * 1e9) * 1e3 / per_wavelength
+}
+
+impl MeshSettings {
+    /// Fills `per_wavelength` and `max_size` that were not given with the defaults of
+    /// `self.order` at `target_ghz` (call again after changing the order or the target).
+    pub fn apply_defaults(&mut self, target_ghz: f64) {
+        if !self.per_wavelength_given {
+            self.per_wavelength = default_per_wavelength(self.order);
+        }
+        if !self.max_size_given {
+            self.max_size = default_max_size_mm(self.per_wavelength, target_ghz);
+        }
+    }
+}
 /// Default target frequency, GHz.
 pub const DEFAULT_TARGET_GHZ: f64 = 2.45;
 /// Default number of modes when no band is given.

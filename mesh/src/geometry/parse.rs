@@ -150,7 +150,8 @@ impl Ctx<'_> {
                 ));
             }
         }
-        let mesh = self.mesh(raw.mesh.as_ref(), &loads, &ports)?;
+        let mut mesh = self.mesh(raw.mesh.as_ref(), &loads, &ports)?;
+        mesh.apply_defaults(solve.target);
         let turntable = raw
             .turntable
             .as_ref()

@@ -24,8 +24,11 @@ impl Ctx<'_> {
         let Some(rm) = rm else {
             return Ok(MeshSettings {
                 order: DEFAULT_ORDER,
-                per_wavelength: DEFAULT_PER_WAVELENGTH,
-                max_size: DEFAULT_MAX_SIZE_MM,
+                // Filled in by `apply_defaults` once the target is known.
+                per_wavelength: default_per_wavelength(DEFAULT_ORDER),
+                max_size: f64::NAN,
+                per_wavelength_given: false,
+                max_size_given: false,
                 import: None,
                 method: MeshMethod::default(),
             });
@@ -49,7 +52,7 @@ impl Ctx<'_> {
             },
         };
         let per_wavelength = match &m.per_wavelength {
-            None => DEFAULT_PER_WAVELENGTH,
+            None => default_per_wavelength(order),
             Some(v) => self.bounded(
                 v,
                 &item,
@@ -59,7 +62,7 @@ impl Ctx<'_> {
             )?,
         };
         let max_size = match &m.max_size {
-            None => DEFAULT_MAX_SIZE_MM,
+            None => f64::NAN,
             Some(v) => self.bounded(v, &item, "max_size", [MIN_LENGTH_MM, MAX_LENGTH_MM], "mm")?,
         };
         let method = match &m.method {
@@ -153,6 +156,8 @@ impl Ctx<'_> {
             order,
             per_wavelength,
             max_size,
+            per_wavelength_given: m.per_wavelength.is_some(),
+            max_size_given: m.max_size.is_some(),
             import,
             method,
         })

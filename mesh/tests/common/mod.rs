@@ -56,6 +56,8 @@ pub fn geometry_with_ports(
             order: 1,
             per_wavelength: 5.0,
             max_size: 20.0,
+            per_wavelength_given: true,
+            max_size_given: true,
             import: None,
             method: MeshMethod::Extruded,
         },

@@ -7,7 +7,9 @@
 //! Thresholds (each is our own choice or common practice, said beside it):
 //! * [`CAVITY_OCTAVE`]: the cavity's lowest analytic mode ([`super::lowest_mode`]) lies
 //!   more than this factor above the highest frequency asked for;
-//! * [`MIN_PER_WAVELENGTH`]: fewer elements per local wavelength than this;
+//! * [`min_per_wavelength`]: fewer elements per local wavelength than this for the
+//!   element order (3 at order 1, common practice; orders 2 and 3 from the mesh-size
+//!   study);
 //! * [`BAND_OCTAVE`]: a found mode lies more than this factor outside a band edge;
 //! * [`SPACING_SHARE`]: the expected error ([`super::accuracy`]) exceeds this share of the
 //!   mean spacing of the modes found in the band.
@@ -15,6 +17,7 @@
 use super::accuracy::AccuracyEstimate;
 use super::lowest_mode::{box_lowest, cylinder_lowest, LowestMode};
 use crate::fem::assembly::RegionMaterial;
+use crate::fem::NedelecOrder;
 use crate::modes::{Mode, ModeSettings};
 use crate::problem::mm_to_m;
 use antinode_mesh::geometry::CavityShape;
@@ -29,10 +32,37 @@ pub const CAVITY_OCTAVE: f64 = 2.0;
 /// applicator at 2.45 GHz: ~25; our own bound).
 pub const METRES_HINT_SPAN: f64 = 50.0;
 
-/// Elements per local wavelength below which a region is too coarse for any field
-/// pattern to be represented (common practice, no source: "at least 3 per wavelength"
-/// is the usual floor quoted for finite elements; 6–10 is the usual working range).
+/// Elements per local wavelength below which a first-order region is too coarse for any
+/// field pattern to be represented (common practice, no source: "at least 3 per
+/// wavelength" is the usual floor quoted for finite elements; 6–10 is the usual working
+/// range).
 pub const MIN_PER_WAVELENGTH: f64 = 3.0;
+
+/// Elements per local wavelength (mean edge) below which a region is too coarse at
+/// element order `order`. Order 1 keeps the common-practice floor [`MIN_PER_WAVELENGTH`]
+/// (on the mesh-size study's references, `tests/tests/mesh_size_study.rs`, order 1 at
+/// 2.6–2.7 per wavelength had worst frequency errors of 1.7e-2–3.5e-2). Orders 2 and 3
+/// take the size at which their worst error in the same study is at or below that
+/// level: order 2 at 1.74–1.85 gave 2.4e-3–1.6e-2, so 1.7; order 3 at 1.31–1.51 gave
+/// 7.9e-4–6.0e-3, below order 1's level, and 1.3 is the coarsest size measured, so the
+/// threshold stops there (README "Accuracy by order and mesh size"). Each order thus
+/// warns at about the same "not resolved" error, not at the same element count. The
+/// defaults (`antinode_mesh::geometry::default_per_wavelength`: 10, 5, 3) gave mean-edge
+/// sizes of 9.2–9.4, 4.3–4.6 and 2.6–2.7 on the references (and 2.6–2.9 in the coarsest
+/// region of each example in `geometries/` at the new defaults, README Performance),
+/// above the thresholds, so a run at the defaults does not warn.
+pub fn min_per_wavelength(order: NedelecOrder) -> f64 {
+    match order {
+        NedelecOrder::One => MIN_PER_WAVELENGTH,
+        NedelecOrder::Two => MIN_PER_WAVELENGTH_ORDER2,
+        NedelecOrder::Three => MIN_PER_WAVELENGTH_ORDER3,
+    }
+}
+
+/// [`min_per_wavelength`] at order 2.
+pub const MIN_PER_WAVELENGTH_ORDER2: f64 = 1.7;
+/// [`min_per_wavelength`] at order 3.
+pub const MIN_PER_WAVELENGTH_ORDER3: f64 = 1.3;
 
 /// Modes more than this factor below the band's lower edge or above its upper edge are
 /// "far outside" it (an octave; our own threshold).
@@ -78,12 +108,15 @@ pub enum RunWarning {
         /// mode of the same numbers read as metres, Hz.
         as_metres_hz: Option<f64>,
     },
-    /// A region has fewer than [`MIN_PER_WAVELENGTH`] elements per local wavelength.
+    /// A region has fewer than [`min_per_wavelength`] elements per local wavelength.
     CoarseRegion {
         /// Region id (0 = air, i = load i) and its name.
         region: usize,
         name: String,
         per_wavelength: f64,
+        /// The element order and its threshold ([`min_per_wavelength`]).
+        order: u8,
+        threshold: f64,
     },
     /// Found modes lie far outside the band.
     ModesOutsideBand {
@@ -144,12 +177,22 @@ impl std::fmt::Display for RunWarning {
                 region,
                 name,
                 per_wavelength,
-            } => write!(
-                f,
-                "region {region} ({name}) has {per_wavelength:.2} elements per local wavelength \
-                 (mean edge length), fewer than {MIN_PER_WAVELENGTH} (common practice, no \
-                 source): its fields are not resolved; raise --per-wavelength or lower --max-size"
-            ),
+                order,
+                threshold,
+            } => {
+                let basis = if *order == 1 {
+                    "common practice, no source"
+                } else {
+                    "the order-1 floor of 3 carried to this order by the mesh-size study's error"
+                };
+                write!(
+                    f,
+                    "region {region} ({name}) has {per_wavelength:.2} elements per local \
+                     wavelength (mean edge length), fewer than {threshold} at order {order} \
+                     ({basis}): its fields are not resolved; raise --per-wavelength or lower \
+                     --max-size"
+                )
+            }
             RunWarning::ModesOutsideBand {
                 outside,
                 found,
@@ -171,9 +214,9 @@ impl std::fmt::Display for RunWarning {
                 f,
                 "settings are coarse for this band: order {order} at this mesh size gives an \
                  expected frequency error of {relative_error:.1e} (±{:.2} MHz, from the \
-                 empty-box benchmark), more than {SPACING_SHARE} of the mean spacing of the \
+                 mesh-size study), more than {SPACING_SHARE} of the mean spacing of the \
                  modes found ({:.2} MHz): neighbouring modes may be misplaced, merged or split; \
-                 use --order 2 or a larger --per-wavelength",
+                 use a higher --order or a larger --per-wavelength",
                 error_hz * 1e-6,
                 spacing_hz * 1e-6
             ),
@@ -226,18 +269,22 @@ pub fn cavity_warning(geom: &Geometry) -> Option<RunWarning> {
     })
 }
 
-/// [`RunWarning::CoarseRegion`] for every region with fewer than [`MIN_PER_WAVELENGTH`]
-/// elements per local wavelength at `freq_hz`.
+/// [`RunWarning::CoarseRegion`] for every region with fewer than
+/// [`min_per_wavelength`]`(order)` elements per local wavelength at `freq_hz`.
 pub fn mesh_warnings(
     mesh: &TetMesh,
     materials: &[RegionMaterial],
     freq_hz: f64,
+    order: NedelecOrder,
 ) -> Vec<RunWarning> {
+    let threshold = min_per_wavelength(order);
     super::accuracy::region_per_wavelength(mesh, materials, freq_hz)
         .into_iter()
         .enumerate()
-        .filter(|(_, n)| n.is_finite() && *n < MIN_PER_WAVELENGTH)
+        .filter(|(_, n)| n.is_finite() && *n < threshold)
         .map(|(region, per_wavelength)| RunWarning::CoarseRegion {
+            order: order.as_int(),
+            threshold,
             region,
             name: mesh
                 .regions
@@ -312,7 +359,12 @@ pub fn review_run(
 ) -> RunReview {
     let accuracy = super::accuracy::estimate(mesh, materials, settings.order, settings.target_hz);
     let mut warnings: Vec<RunWarning> = cavity_warning(geom).into_iter().collect();
-    warnings.extend(mesh_warnings(mesh, materials, settings.target_hz));
+    warnings.extend(mesh_warnings(
+        mesh,
+        materials,
+        settings.target_hz,
+        settings.order,
+    ));
     let freqs: Vec<f64> = modes.iter().map(|m| m.frequency_hz).collect();
     warnings.extend(mode_warnings(
         &freqs,
