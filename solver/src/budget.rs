@@ -15,6 +15,7 @@
 
 use crate::fem::assembly::RegionMaterial;
 use crate::fem::{NedelecOrder, Space};
+use crate::linalg::mixed::{FactorPrecision, RESTART};
 use crate::modes::ModeSettings;
 use antinode_mesh::TetMesh;
 
@@ -40,16 +41,19 @@ pub struct Plan {
     pub factor_entries: f64,
     /// Estimated peak memory, bytes.
     pub memory_bytes: f64,
+    /// Precision of the factor the estimate is for.
+    pub precision: FactorPrecision,
 }
 
 /// Count unknowns and estimate memory for `settings` on `mesh`.
 pub fn plan(mesh: &TetMesh, materials: &[RegionMaterial], settings: &ModeSettings) -> Plan {
     let space = settings.space(mesh);
-    estimate(
+    estimate_with(
         space.n_dofs(),
         settings.is_complex(materials),
         settings.order,
         basis_size(settings),
+        settings.precision,
     )
 }
 
@@ -73,8 +77,32 @@ pub fn row_entries(order: NedelecOrder) -> f64 {
 }
 
 /// Estimate for `n` unknowns of element order `order` (which sets the matrix density,
-/// [`row_entries`]); `basis` is the eigen basis size.
+/// [`row_entries`]); `basis` is the eigen basis size; a double-precision factor.
 pub fn estimate(n: usize, complex: bool, order: NedelecOrder, basis: usize) -> Plan {
+    estimate_with(n, complex, order, basis, FactorPrecision::Double)
+}
+
+/// Right-hand sides of one block solve counted for the mixed-precision work vectors
+/// (the eigen block is 6; 8 leaves room).
+const MIXED_BLOCK: f64 = 8.0;
+
+/// Work vectors of a mixed-precision solve, in double-precision vectors of n: the
+/// refinement's copies of the block (b, x, r, the active columns, their correction and
+/// product: six per column, one more for the rounded single copy at half size) and one
+/// GMRES cycle (the Krylov basis V and the preconditioned Z, 2·(restart + 1)).
+pub fn mixed_work_vectors() -> f64 {
+    7.0 * MIXED_BLOCK + 2.0 * (RESTART as f64 + 1.0)
+}
+
+/// [`estimate`] for a factor of the given precision: single stores 4 bytes per real
+/// factor entry and 8 per complex one, and adds [`mixed_work_vectors`].
+pub fn estimate_with(
+    n: usize,
+    complex: bool,
+    order: NedelecOrder,
+    basis: usize,
+    precision: FactorPrecision,
+) -> Plan {
     let nf = n as f64;
     let factor_entries = fill_constant(order) * nf.powf(4.0 / 3.0);
     // K, M′, M″ and the shifted copy (real and imaginary parts when complex) each store
@@ -83,11 +111,16 @@ pub fn estimate(n: usize, complex: bool, order: NedelecOrder, basis: usize) -> P
     let matrices = nf * row * 12.0 * if complex { 5.0 } else { 3.0 };
     let scalar = if complex { 16.0 } else { 8.0 };
     let vectors = nf * basis as f64 * scalar * if complex { 3.0 } else { 4.0 };
+    let (factor_scalar, work) = match precision {
+        FactorPrecision::Double => (scalar, 0.0),
+        FactorPrecision::Single => (scalar / 2.0, nf * mixed_work_vectors() * scalar),
+    };
     Plan {
         n_dofs: n,
         complex,
         factor_entries,
-        memory_bytes: factor_entries * scalar * 1.3 + matrices + vectors,
+        memory_bytes: factor_entries * factor_scalar * 1.3 + matrices + vectors + work,
+        precision,
     }
 }
 
@@ -100,6 +133,23 @@ pub const DRIVEN_BASIS_COMPLEX: usize = 100;
 pub fn plan_driven(mesh: &TetMesh, order: NedelecOrder, n_ports: usize) -> Plan {
     let space = Space::with_ports(mesh, order, n_ports);
     estimate(space.n_dofs(), true, order, DRIVEN_BASIS_COMPLEX)
+}
+
+/// The precision `auto` chooses: double when its plan fits in `limit` bytes, single
+/// otherwise (even when single does not fit either: the caller's refusal then names the
+/// smaller of the two).
+pub fn choose_precision(
+    n: usize,
+    complex: bool,
+    order: NedelecOrder,
+    basis: usize,
+    limit: f64,
+) -> FactorPrecision {
+    if estimate(n, complex, order, basis).memory_bytes <= limit {
+        FactorPrecision::Double
+    } else {
+        FactorPrecision::Single
+    }
 }
 
 /// Memory the front end allows a solve (bytes; 0 = no limit), checked against the exact
@@ -161,6 +211,29 @@ mod tests {
                 (est / counted - 1.0).abs() < 0.10,
                 "{order:?}: {est} vs {counted}"
             );
+        }
+    }
+
+    /// The single plan is smaller than the double one by most of the factor, and `auto`
+    /// picks single only when double does not fit: limits just above and just below the
+    /// double plan of a 1M-unknown complex order-2 problem (own arithmetic, no source).
+    #[test]
+    fn auto_chooses_single_only_when_double_does_not_fit() {
+        let (n, order, basis) = (1_000_000, NedelecOrder::Two, 80);
+        for complex in [false, true] {
+            let d = estimate(n, complex, order, basis);
+            let s = estimate_with(n, complex, order, basis, FactorPrecision::Single);
+            let scalar = if complex { 16.0 } else { 8.0 };
+            // Half the factor's bytes saved, the work vectors added.
+            let saved = d.factor_entries * scalar / 2.0 * 1.3;
+            let work = n as f64 * mixed_work_vectors() * scalar;
+            assert!((d.memory_bytes - s.memory_bytes - (saved - work)).abs() < 1.0);
+            assert!(s.memory_bytes < d.memory_bytes);
+            let pick = |limit| choose_precision(n, complex, order, basis, limit);
+            assert_eq!(pick(d.memory_bytes * 1.001), FactorPrecision::Double);
+            assert_eq!(pick(d.memory_bytes), FactorPrecision::Double);
+            assert_eq!(pick(d.memory_bytes * 0.999), FactorPrecision::Single);
+            assert_eq!(pick(s.memory_bytes * 0.5), FactorPrecision::Single);
         }
     }
 

@@ -1,7 +1,7 @@
 //! `antinode modes`: mesh, memory check, eigen solve, table and files.
 
 use super::{plan, positive};
-use crate::output::json::{ModesDoc, PlanFigures, RegionInfo, SolveFigures};
+use crate::output::json::{ModesDoc, PlanFigures, RefinementFigures, RegionInfo, SolveFigures};
 use crate::output::review;
 use crate::output::spectrum::{self, Spectrum, SpectrumMode};
 use crate::output::summary::{
@@ -13,6 +13,7 @@ use crate::units;
 use antinode_mesh::{Geometry, TetMesh};
 use antinode_solver::budget::{self, Plan};
 use antinode_solver::fem::impedance::WallLosses;
+use antinode_solver::linalg::mixed::FactorPrecision;
 use antinode_solver::modes::SolveStats;
 use antinode_solver::post::band::{band_figures, BandFigures, SearchFacts, ISM_BAND_HZ};
 use antinode_solver::post::warnings::{review_run, RunReview};
@@ -52,6 +53,18 @@ impl From<WallLossArg> for WallLosses {
     }
 }
 
+/// Precision of the shifted operator's factor (`--factor-precision`).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum PrecisionArg {
+    /// Double when its memory plan fits the memory this run may use, single otherwise.
+    Auto,
+    /// Double-precision factor (8 / 16 bytes per real / complex entry).
+    Double,
+    /// Single-precision factor (half the memory), every solve refined in double to the
+    /// same residual; eigen iteration slower (several solves per application).
+    Single,
+}
+
 #[derive(Args)]
 pub struct ModesArgs {
     /// Geometry file (TOML; lengths in mm, frequencies in GHz; see the README).
@@ -85,6 +98,9 @@ pub struct ModesArgs {
     /// Skip the per-mode field files (mode_NNN.vtu, modes.pvd).
     #[arg(long)]
     pub no_fields: bool,
+    /// Precision of the factor of the shifted operator.
+    #[arg(long, value_enum, value_name = "P", default_value_t = PrecisionArg::Auto)]
+    pub factor_precision: PrecisionArg,
     /// How metal walls of finite conductivity enter the wall Q (PEC walls: no effect).
     #[arg(long, value_enum, value_name = "METHOD", default_value_t = WallLossArg::Impedance)]
     pub wall_losses: WallLossArg,
@@ -117,7 +133,19 @@ pub fn run_with(
         count: settings.count,
         usual: settings.eigen.basis,
     };
-    let pre = plan::before_meshing(&geom, order, complex, basis, Some(count), args.allow_large)?;
+    let lowest = match args.factor_precision {
+        PrecisionArg::Double => FactorPrecision::Double,
+        PrecisionArg::Auto | PrecisionArg::Single => FactorPrecision::Single,
+    };
+    let pre = plan::before_meshing(
+        &geom,
+        order,
+        complex,
+        basis,
+        Some(count),
+        args.allow_large,
+        lowest,
+    )?;
     // The output folder is checked (and its staging folder made) before meshing.
     let out = match args.plan {
         true => None,
@@ -135,7 +163,7 @@ pub fn run_with(
         });
     }
 
-    let (plan, avail) = check_plan(args, &mesh, &mats, &settings)?;
+    let (plan, avail, precision_reason) = check_plan(args, &mesh, &mats, &mut settings)?;
     let Some(out) = out else {
         plan::print_plan_only(&plan, pre.as_ref(), mesh.tets.len(), mesh_s);
         return Ok(());
@@ -216,7 +244,7 @@ pub fn run_with(
             good_coupling,
             q_check_max_relative,
         ),
-        solve: solve_figures(&mesh, mesh_s, st, &plan, avail),
+        solve: solve_figures(&mesh, mesh_s, st, &plan, avail, precision_reason),
         accuracy: review::accuracy_figures(
             &run_review.accuracy,
             &mesh
@@ -299,16 +327,52 @@ pub(crate) fn apply_overrides(args: &ModesArgs, geom: &mut Geometry) -> Result<O
     Ok(band_from)
 }
 
-/// The solver's plan (unknowns, memory) against the memory available: refuses a run
+/// The solver's plan (unknowns, memory) against the memory available: chooses the
+/// factor's precision (`--factor-precision`; sets `settings.precision`), refuses a run
 /// that would not fit unless --allow-large; prints the plan for the table format.
+/// Returns the plan, the memory available and why the precision was chosen.
 fn check_plan(
     args: &ModesArgs,
     mesh: &TetMesh,
     mats: &[RegionMaterial],
-    settings: &ModeSettings,
-) -> Result<(Plan, Option<f64>)> {
+    settings: &mut ModeSettings,
+) -> Result<(Plan, Option<f64>, String)> {
     let order = settings.order;
+    let avail = crate::budget::available();
     // Unknowns and memory from the solver's plan, before any assembly.
+    settings.precision = FactorPrecision::Double;
+    let double = budget::plan(mesh, mats, settings);
+    let limit = avail.map(|a| plan::MEMORY_SHARE * a.bytes);
+    let (precision, reason) = match (args.factor_precision, limit) {
+        (PrecisionArg::Double, _) => (FactorPrecision::Double, "--factor-precision double".into()),
+        (PrecisionArg::Single, _) => (FactorPrecision::Single, "--factor-precision single".into()),
+        (PrecisionArg::Auto, None) => (
+            FactorPrecision::Double,
+            "auto: available memory unknown, double".into(),
+        ),
+        (PrecisionArg::Auto, Some(l)) => {
+            let basis = budget::basis_size(settings);
+            match budget::choose_precision(double.n_dofs, double.complex, order, basis, l) {
+                FactorPrecision::Double => (
+                    FactorPrecision::Double,
+                    format!(
+                        "auto: the double plan {} fits the {} this run may use",
+                        units::bytes(double.memory_bytes),
+                        units::bytes(l)
+                    ),
+                ),
+                FactorPrecision::Single => (
+                    FactorPrecision::Single,
+                    format!(
+                        "auto: the double plan {} exceeds the {} this run may use",
+                        units::bytes(double.memory_bytes),
+                        units::bytes(l)
+                    ),
+                ),
+            }
+        }
+    };
+    settings.precision = precision;
     let plan = budget::plan(mesh, mats, settings);
     if settings.count > plan.n_dofs {
         bail!(
@@ -319,9 +383,14 @@ fn check_plan(
             order.as_int()
         );
     }
-    let avail = crate::budget::available();
     // When the eigen basis for a large --count dominates, say so.
-    let usual = budget::estimate(plan.n_dofs, plan.complex, order, settings.eigen.basis);
+    let usual = budget::estimate_with(
+        plan.n_dofs,
+        plan.complex,
+        order,
+        settings.eigen.basis,
+        precision,
+    );
     let basis_note = (plan.memory_bytes > 2.0 * usual.memory_bytes).then(|| {
         format!(
             "; most of it the eigen basis of {} vectors for --count {} (use a smaller \
@@ -343,9 +412,10 @@ fn check_plan(
                 None => String::new(),
             }
         );
+        println!("factor precision: {} ({reason})", precision.name());
     }
 
-    Ok((plan, avail.map(|a| a.bytes)))
+    Ok((plan, avail.map(|a| a.bytes), reason))
 }
 
 /// One row per mode for the table and the documents.
@@ -557,8 +627,20 @@ fn solve_figures(
     st: &SolveStats,
     plan: &Plan,
     avail: Option<f64>,
+    precision_reason: String,
 ) -> SolveFigures {
     SolveFigures {
+        factor_precision: st.precision.name().to_string(),
+        factor_precision_reason: precision_reason,
+        refinement: st.mixed.map(|m| RefinementFigures {
+            tolerance: antinode_solver::linalg::mixed::TOLERANCE,
+            columns: m.columns,
+            refinement_steps: m.refinement_steps,
+            gmres_columns: m.gmres_columns,
+            gmres_iterations: m.gmres_iterations,
+            unconverged: m.unconverged,
+            worst_residual: m.worst_residual,
+        }),
         nodes: mesh.nodes.len(),
         tets: mesh.tets.len(),
         complex: st.complex,

@@ -13,6 +13,7 @@ use crate::budget::Available;
 use crate::units;
 use antinode_mesh::{mesher, Geometry};
 use antinode_solver::budget;
+use antinode_solver::linalg::mixed::FactorPrecision;
 use antinode_solver::NedelecOrder;
 use anyhow::{bail, Result};
 
@@ -47,7 +48,9 @@ impl PrePlan {
 }
 
 /// The plan from the mesher's estimate; `None` for an imported mesh (no estimate).
-/// Refuses a run whose plan exceeds the memory available unless `allow_large`.
+/// Refuses a run whose plan exceeds the memory available unless `allow_large`; the solve
+/// is planned with a factor of precision `lowest` (single when the run may fall back to
+/// it, so that it is not refused for a double plan it would not use).
 pub fn before_meshing(
     geom: &Geometry,
     order: NedelecOrder,
@@ -55,6 +58,7 @@ pub fn before_meshing(
     basis: usize,
     count: Option<CountBasis>,
     allow_large: bool,
+    lowest: FactorPrecision,
 ) -> Result<Option<PrePlan>> {
     if geom.mesh.import.is_some() {
         return Ok(None);
@@ -62,7 +66,7 @@ pub fn before_meshing(
     let sizes = mesher::element_sizes(geom)?;
     let est = mesher::estimate(geom, &sizes)?;
     let unknowns = budget::unknowns_from_tets(est.tets, order);
-    let solve = budget::estimate(unknowns as usize, complex, order, basis);
+    let solve = budget::estimate_with(unknowns as usize, complex, order, basis, lowest);
     let plan = PrePlan {
         tets: est.tets,
         unknowns,
@@ -82,7 +86,7 @@ pub fn before_meshing(
                 order.as_int()
             );
         }
-        let usual = budget::estimate(unknowns as usize, complex, order, c.usual);
+        let usual = budget::estimate_with(unknowns as usize, complex, order, c.usual, lowest);
         if solve.memory_bytes > 2.0 * usual.memory_bytes {
             basis_note = format!(
                 "; most of it the eigen basis of {basis} vectors for --count {} (use a \
@@ -137,16 +141,14 @@ pub fn check_solve(
     if plan.memory_bytes > MEMORY_SHARE * a.bytes && !allow_large {
         bail!(
             "this solve would need an estimated {} ({} unknowns at order {}{}, ~{:.2e} factor \
-             entries by the solver's fill estimate{}), but only {} is available ({}); {}",
+             entries by the solver's fill estimate, in {} precision{}), but only {} is \
+             available ({}); {}",
             units::bytes(plan.memory_bytes),
             plan.n_dofs,
             order.as_int(),
-            if plan.complex {
-                ", complex: an n × n factor of 16-byte complex entries"
-            } else {
-                ""
-            },
+            if plan.complex { ", complex" } else { "" },
             plan.factor_entries,
+            plan.precision.name(),
             basis_note.unwrap_or_default(),
             units::bytes(a.bytes),
             a.source,

@@ -39,7 +39,28 @@ pub struct SolveFigures {
     pub operator_applications: usize,
     pub restarts: usize,
     pub spurious_dropped: usize,
+    /// "double" or "single" (single: every solve refined in double, see `refinement`).
+    pub factor_precision: String,
+    /// Why: the option given, or what `auto` compared.
+    pub factor_precision_reason: String,
+    /// Counts of the single-precision solves (null in double).
+    pub refinement: Option<RefinementFigures>,
     pub plan: PlanFigures,
+}
+
+/// The mixed-precision solves of a run: right-hand sides solved, refinement steps and
+/// GMRES iterations summed over them, and the residual reached.
+#[derive(Clone, Debug, Serialize)]
+pub struct RefinementFigures {
+    /// The relative residual ‖b − A x‖/‖b‖ every solve is refined to.
+    pub tolerance: f64,
+    pub columns: usize,
+    pub refinement_steps: usize,
+    pub gmres_columns: usize,
+    pub gmres_iterations: usize,
+    /// Solves that missed the tolerance even after GMRES.
+    pub unconverged: usize,
+    pub worst_residual: f64,
 }
 
 /// One mesh region: its id in the `.vtu` files (`region` cell data) and its material

@@ -327,7 +327,7 @@ fn print_solve(doc: &ModesDoc) {
         "solve: {} unknowns ({}), {} matrix non-zeros, factor {} entries (planned before \
          assembly: {:.3e}, estimate); planned peak memory {} (estimate{}); mesh {:.2} s, \
          assembly {:.2} s, factorisation {:.2} s, eigen {:.2} s ({} solves, {} restarts); \
-         spurious fields dropped: {}",
+         spurious fields dropped: {}; factor precision {}{}",
         doc.unknowns,
         if s.complex {
             "complex symmetric, LDLᵀ with complex entries"
@@ -348,6 +348,21 @@ fn print_solve(doc: &ModesDoc) {
         s.eigen_s,
         s.operator_applications,
         s.restarts,
-        s.spurious_dropped
+        s.spurious_dropped,
+        s.factor_precision,
+        match &s.refinement {
+            Some(r) => format!(
+                " ({} solves: {} refinement steps, {} went on to GMRES with {} iterations, \
+                 {} missed the {:.0e} residual; worst residual {:.1e})",
+                r.columns,
+                r.refinement_steps,
+                r.gmres_columns,
+                r.gmres_iterations,
+                r.unconverged,
+                r.tolerance,
+                r.worst_residual
+            ),
+            None => String::new(),
+        }
     );
 }

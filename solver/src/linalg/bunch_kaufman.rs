@@ -95,7 +95,7 @@ fn permute_columns<T: FactorScalar>(mut a: MatMut<'_, T>, perm: &[u32]) {
 
 /// Rows x of `bot` become x D⁻¹ (D: the diagonal of `top` and the 2×2 blocks' `subdiag`).
 fn scale_by_d_inverse<T: FactorScalar>(top: MatRef<'_, T>, subdiag: &[T], mut bot: MatMut<'_, T>) {
-    let (one, zero) = (T::from(1.0), T::from(0.0));
+    let (one, zero) = (T::of(1.0), T::of(0.0));
     let m = top.ncols();
     let mut k = 0;
     while k < m {
@@ -129,7 +129,7 @@ fn factor_top<T: FactorScalar>(
     par: Par,
 ) -> Result<(), ZeroPivot> {
     let m = a.ncols();
-    let zero = T::from(0.0);
+    let zero = T::of(0.0);
     for j in 0..m {
         for i in j + 1..m {
             a[(j, i)] = a[(i, j)];
@@ -164,7 +164,7 @@ fn factor_top<T: FactorScalar>(
                 BlockStructure::Rectangular,
                 w.as_ref().submatrix(k, 0, m - k, kb).transpose(),
                 BlockStructure::Rectangular,
-                T::from(-1.0),
+                T::of(-1.0),
                 par,
             );
             for j in 0..m - k {
@@ -204,7 +204,7 @@ fn updated_column<T: FactorScalar>(
             Accum::Add,
             a.submatrix(k, start, nr - k, kw),
             prev.as_ref().submatrix(c, 0, 1, kw).transpose(),
-            T::from(-1.0),
+            T::of(-1.0),
             Par::Seq,
         );
     }
@@ -279,7 +279,7 @@ fn pivot_step<T: FactorScalar>(
         }
         perm.swap(kk, kp);
     }
-    let one = T::from(1.0);
+    let one = T::of(1.0);
     if kstep == 1 {
         let d = w[(k, kw)];
         a[(k, k)] = d;
@@ -301,7 +301,7 @@ fn pivot_step<T: FactorScalar>(
             a[(i, k + 1)] = d21 * (d22 * wk1 - wk);
         }
         a[(k, k)] = w[(k, kw)];
-        a[(k + 1, k)] = T::from(0.0);
+        a[(k + 1, k)] = T::of(0.0);
         a[(k + 1, k + 1)] = w[(k + 1, kw + 1)];
         subdiag[k] = b;
     }

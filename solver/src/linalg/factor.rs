@@ -77,7 +77,7 @@ pub fn zeroed(len: usize, workspace: &'static str) -> Result<Vec<f64>, SolverErr
 }
 
 /// [`zeroed`] for any scalar (f64 or c64 factor values).
-pub fn zeroed_of<T: Copy + From<f64>>(
+pub fn zeroed_of<T: crate::linalg::triangular::FactorScalar>(
     len: usize,
     workspace: &'static str,
 ) -> Result<Vec<T>, SolverError> {
@@ -92,7 +92,7 @@ pub fn zeroed_of<T: Copy + From<f64>>(
     }
     let mut v = Vec::new();
     v.try_reserve_exact(len).map_err(|_| oom())?;
-    v.resize(len, T::from(0.0));
+    v.resize(len, T::of(0.0));
     Ok(v)
 }
 

@@ -8,6 +8,7 @@ pub mod bunch_kaufman;
 pub mod complex_ldlt;
 pub mod eigen;
 pub mod factor;
+pub mod mixed;
 pub mod ordering;
 pub mod sparse;
 pub mod supernodal_ldlt;

@@ -116,7 +116,7 @@ impl<T: FactorScalar> SupernodalLdlt<T> {
             None => ((0..n as u32).collect(), (0..n as u32).collect()),
         };
         let mut values = zeroed_of::<T>(sn.len_val(), "factor values")?;
-        let mut subdiag = vec![T::from(0.0); n];
+        let mut subdiag = vec![T::of(0.0); n];
         let mut pivot_fwd = vec![0u32; n];
         let threads = threads.max(1);
         let schedule = TreeSchedule::new(sn, threads);
@@ -393,7 +393,7 @@ fn update_from<T: FactorScalar>(
     scratch: &mut Vec<T>,
     par: Par,
 ) {
-    let zero = T::from(0.0);
+    let zero = T::of(0.0);
     let dpat = d.pattern;
     let dsize = d.subdiag.len();
     let ld = MatRef::from_column_major_slice(d.values, dsize + dpat.len(), dsize);
@@ -438,7 +438,7 @@ fn update_from<T: FactorScalar>(
         BlockStructure::Rectangular,
         ldd.as_ref().transpose(),
         BlockStructure::Rectangular,
-        T::from(1.0),
+        T::of(1.0),
         par,
     );
     matmul(
@@ -446,7 +446,7 @@ fn update_from<T: FactorScalar>(
         Accum::Replace,
         l_mid_bot.subrows(mid, below - mid),
         ldd.as_ref().transpose(),
-        T::from(1.0),
+        T::of(1.0),
         par,
     );
     for (jj, &col) in dpat[first..first + mid].iter().enumerate() {

@@ -55,14 +55,14 @@ pub struct TreeSchedule {
 }
 
 /// The scalars a factor can hold: f64 (real symmetric) and c64 (complex symmetric; the
-/// solve uses transposes only, never conjugates).
+/// solve uses transposes only, never conjugates), and their single-precision forms f32
+/// and c32 for the mixed-precision path ([`crate::linalg::mixed`]).
 pub trait FactorScalar:
     faer::traits::ComplexField
     + Copy
     + Send
     + Sync
     + PartialEq
-    + From<f64>
     + std::ops::Add<Output = Self>
     + std::ops::Sub<Output = Self>
     + std::ops::Mul<Output = Self>
@@ -71,19 +71,43 @@ pub trait FactorScalar:
     + std::ops::SubAssign
     + std::ops::MulAssign
 {
+    /// The real number x in this type (rounded to single precision for f32 and c32).
+    fn of(x: f64) -> Self;
     /// The pivot-search modulus: |x| of a real entry, |re| + |im| of a complex one
     /// (LAPACK's cabs1, cheaper than the true modulus and as good for choosing pivots).
     fn abs1(self) -> f64;
 }
 
 impl FactorScalar for f64 {
+    fn of(x: f64) -> Self {
+        x
+    }
     fn abs1(self) -> f64 {
         self.abs()
     }
 }
 impl FactorScalar for faer::c64 {
+    fn of(x: f64) -> Self {
+        faer::c64::new(x, 0.0)
+    }
     fn abs1(self) -> f64 {
         self.re.abs() + self.im.abs()
+    }
+}
+impl FactorScalar for f32 {
+    fn of(x: f64) -> Self {
+        x as f32
+    }
+    fn abs1(self) -> f64 {
+        f64::from(self.abs())
+    }
+}
+impl FactorScalar for faer::c32 {
+    fn of(x: f64) -> Self {
+        faer::c32::new(x as f32, 0.0)
+    }
+    fn abs1(self) -> f64 {
+        f64::from(self.re.abs() + self.im.abs())
     }
 }
 
@@ -270,7 +294,7 @@ pub fn solve<T: FactorScalar>(f: &LbltFactor<'_, T>, sched: &TreeSchedule, mut r
     if k == 0 || n == 0 {
         return;
     }
-    let zero = T::from(0.0);
+    let zero = T::of(0.0);
     let mut x = vec![zero; n * k];
     for (i, &p) in f.perm.iter().enumerate() {
         for j in 0..k {
@@ -389,7 +413,7 @@ unsafe fn own_rows<'b, T: FactorScalar>(
 ) -> &'b mut Vec<T> {
     let (size, k) = (sn.size, x.k);
     xt.clear();
-    xt.resize(size * k, T::from(0.0));
+    xt.resize(size * k, T::of(0.0));
     for c in 0..size {
         for (j, &v) in x.row(sn.start + c).iter().enumerate() {
             xt[j * size + c] = v;
@@ -433,7 +457,7 @@ unsafe fn forward<T: FactorScalar>(
     let xt = own_rows(&sn, x, &mut scratch.top);
     // L_top z = y (unit lower), then the pattern rows' updates t = L_bot z.
     scratch.bottom.clear();
-    scratch.bottom.resize(plen * k, T::from(0.0));
+    scratch.bottom.resize(plen * k, T::of(0.0));
     let t = &mut scratch.bottom;
     {
         let l = MatRef::from_column_major_slice(sn.val, nr, size);
@@ -441,14 +465,7 @@ unsafe fn forward<T: FactorScalar>(
         let mut z = MatMut::from_column_major_slice_mut(xt.as_mut_slice(), size, k);
         solve_unit_lower_triangular_in_place(l_top, z.as_mut(), Par::Seq);
         let tm = MatMut::from_column_major_slice_mut(t.as_mut_slice(), plen, k);
-        matmul(
-            tm,
-            Accum::Replace,
-            l_bot,
-            z.as_ref(),
-            T::from(1.0),
-            Par::Seq,
-        );
+        matmul(tm, Accum::Replace, l_bot, z.as_ref(), T::of(1.0), Par::Seq);
     }
     for (idx, &row) in sn.pattern.iter().enumerate().take(cut) {
         let dest = f.pivot_inv[row as usize] as usize;
@@ -468,8 +485,8 @@ unsafe fn forward<T: FactorScalar>(
     let sub = &f.subdiag[sn.start..sn.start + size];
     let mut i = 0;
     while i < size {
-        let one = T::from(1.0);
-        if sub[i] == T::from(0.0) {
+        let one = T::of(1.0);
+        if sub[i] == T::of(0.0) {
             let d = one / sn.val[i * nr + i];
             for j in 0..k {
                 xt[j * size + i] *= d;
@@ -507,7 +524,7 @@ unsafe fn backward<T: FactorScalar>(
     let sn = Supernode::of(f, s);
     let (size, nr, plen, k) = (sn.size, sn.rows(), sn.pattern.len(), x.k);
     scratch.bottom.clear();
-    scratch.bottom.resize(plen * k, T::from(0.0));
+    scratch.bottom.resize(plen * k, T::of(0.0));
     let t = &mut scratch.bottom;
     for (idx, &row) in sn.pattern.iter().enumerate() {
         for (j, &v) in x.row(f.pivot_inv[row as usize] as usize).iter().enumerate() {
@@ -525,7 +542,7 @@ unsafe fn backward<T: FactorScalar>(
             Accum::Add,
             l_bot.transpose(),
             tm,
-            T::from(-1.0),
+            T::of(-1.0),
             Par::Seq,
         );
         solve_unit_upper_triangular_in_place(l_top.transpose(), u.as_mut(), Par::Seq);

@@ -47,6 +47,7 @@ use crate::fem::impedance::ImpedanceWalls;
 use crate::fem::port::{PortConstraint, PortTerms};
 use crate::fem::Space;
 use crate::linalg::eigen::{self, KrylovOperator, KrylovScalar, RitzPairs};
+use crate::linalg::mixed::{FactorPrecision, MixedSummary};
 use crate::post::field::{mode_fields, ModeFields};
 use crate::post::losses::{
     eigen_matched_q, mode_integrals, ModeIntegrals, ModeQ, PortPower, WallLoss,
@@ -118,6 +119,10 @@ pub struct SolveStats {
     pub applications: usize,
     pub restarts: usize,
     pub spurious_dropped: usize,
+    /// Precision of the factor (double, or single with refined solves).
+    pub precision: FactorPrecision,
+    /// Refinement and GMRES counts of the single-precision solves (None in double).
+    pub mixed: Option<MixedSummary>,
     /// Radius (m⁻², in k0² = λ) of the disc around σ in the complex λ plane inside which
     /// every eigenvalue was found: the band radius for a band search, else the distance of
     /// the farthest converged mode. A mode with Re f in a band but strong damping
@@ -239,6 +244,8 @@ pub fn solve_modes<'m>(
         applications: run.applications,
         restarts: run.restarts,
         spurious_dropped,
+        precision: settings.precision,
+        mixed: run.mixed,
         search_radius,
     };
     let (matrices, ports) = system.into_full();
@@ -260,6 +267,7 @@ struct EigenRun {
     factor_nnz: usize,
     applications: usize,
     restarts: usize,
+    mixed: Option<MixedSummary>,
 }
 
 /// Build and factorise the operator (`build` returns it with its factor's entry count),
@@ -285,6 +293,7 @@ fn factor_and_iterate<T: KrylovScalar, O: KrylovOperator<T>>(
         factor_nnz,
         applications: ritz.applications,
         restarts: ritz.restarts,
+        mixed: None,
     };
     Ok((op, ritz, run))
 }
@@ -311,12 +320,19 @@ fn eigen_run(
     );
     if !complex {
         let build = || {
-            let factor = RefinedFactor::new(shifted_real(sys, search.sigma), kind, perm, refine)?;
+            let factor = RefinedFactor::with_precision(
+                shifted_real(sys, search.sigma),
+                kind,
+                perm,
+                refine,
+                settings.precision,
+            )?;
             let nnz = factor.factor_nnz();
             let mass = &sys.mass_real;
             Ok((RealShiftInvert { factor, mass }, nnz))
         };
         let (op, ritz, mut run) = factor_and_iterate(build, search, settings, progress)?;
+        run.mixed = op.factor.mixed_summary();
         drop(op);
         run.raw = real_raw_modes(&ritz, search.sigma, sys, scale);
         return Ok(run);
@@ -326,12 +342,19 @@ fn eigen_run(
         if let Some(w) = walls {
             parts = w.add_to(parts);
         }
-        let factor = ComplexFactor::new(parts, settings.complex_form, perm, refine)?;
+        let factor = ComplexFactor::with_precision(
+            parts,
+            settings.complex_form,
+            perm,
+            refine,
+            settings.precision,
+        )?;
         let nnz = factor.factor_nnz();
         let (m_re, m_im) = (&sys.mass_real, sys.mass_imag.as_ref());
         Ok((ComplexShiftInvert { factor, m_re, m_im }, nnz))
     };
     let (op, ritz, mut run) = factor_and_iterate(build, search, settings, progress)?;
+    run.mixed = op.factor.mixed_summary();
     let parts = op.factor.parts;
     run.raw = complex_raw_modes(&ritz, search.sigma, &parts.re, &parts.im, sys, ports, scale);
     Ok(run)

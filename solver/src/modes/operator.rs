@@ -21,18 +21,26 @@ use crate::fem::port::PortTerms;
 use crate::linalg::complex_ldlt::ComplexSymmetricFactor;
 use crate::linalg::eigen::KrylovOperator;
 use crate::linalg::factor::{FactorKind, SymmetricFactor, REFINE_ABOVE};
+use crate::linalg::mixed::{FactorPrecision, MixedFactor, MixedSummary};
 use crate::linalg::ordering::doubled;
 use crate::linalg::sparse::{combine, diagonal, real_form, spmm, spmm_complex, SparseMatrix};
 use faer::{c64, Mat, MatMut, MatRef, Par};
 use std::sync::atomic::{AtomicU8, Ordering::Relaxed};
 
 /// A factorised real symmetric matrix, kept with the matrix for residual-checked
-/// refinement.
+/// refinement: a double factor (refined when its first residual check asks), or a
+/// single-precision one refined in double on every solve.
 pub struct RefinedFactor {
     pub matrix: SparseMatrix,
-    pub factor: SymmetricFactor,
-    /// Refinement steps per solve (0 or 1; see [`SymmetricFactor::solve_refined`]).
+    inner: RealInner,
+    /// Refinement steps per solve of a double factor (0 or 1; see
+    /// [`SymmetricFactor::solve_refined`]).
     pub refine: usize,
+}
+
+enum RealInner {
+    Double(SymmetricFactor),
+    Single(MixedFactor<f64>),
 }
 
 impl RefinedFactor {
@@ -46,27 +54,57 @@ impl RefinedFactor {
         ordering: Option<&(Vec<u32>, Vec<u32>)>,
         refine: usize,
     ) -> Result<Self, SolverError> {
-        let factor = SymmetricFactor::new(
-            &matrix,
-            kind,
-            Par::Seq,
-            ordering.map(|(f, i)| (&f[..], &i[..])),
-        )?;
+        Self::with_precision(matrix, kind, ordering, refine, FactorPrecision::Double)
+    }
+
+    /// As [`Self::new`] in the given precision (single: the pivoted supernodal LBLᵀ in
+    /// f32, whatever `kind` says).
+    pub fn with_precision(
+        matrix: SparseMatrix,
+        kind: FactorKind,
+        ordering: Option<&(Vec<u32>, Vec<u32>)>,
+        refine: usize,
+        precision: FactorPrecision,
+    ) -> Result<Self, SolverError> {
+        let ord = ordering.map(|(f, i)| (&f[..], &i[..]));
+        let inner = match precision {
+            FactorPrecision::Double => {
+                RealInner::Double(SymmetricFactor::new(&matrix, kind, Par::Seq, ord)?)
+            }
+            FactorPrecision::Single => RealInner::Single(MixedFactor::real(&matrix, ord)?),
+        };
         Ok(Self {
             matrix,
-            factor,
+            inner,
             refine,
         })
     }
 
     /// Stored entries of the factor.
     pub fn factor_nnz(&self) -> usize {
-        self.factor.factor_nnz()
+        match &self.inner {
+            RealInner::Double(f) => f.factor_nnz(),
+            RealInner::Single(f) => f.factor_nnz(),
+        }
+    }
+
+    /// The refinement counts of a single-precision factor (None for a double one).
+    pub fn mixed_summary(&self) -> Option<MixedSummary> {
+        match &self.inner {
+            RealInner::Double(_) => None,
+            RealInner::Single(f) => Some(f.summary()),
+        }
     }
 
     /// Solve A X = B in place.
     pub fn solve(&self, rhs: MatMut<'_, f64>) {
-        self.factor.solve_refined(&self.matrix, rhs, self.refine);
+        match &self.inner {
+            RealInner::Double(f) => f.solve_refined(&self.matrix, rhs, self.refine),
+            RealInner::Single(f) => {
+                let a = &self.matrix;
+                f.solve_in_place(&|x, y| spmm(a, x, y), rhs);
+            }
+        }
     }
 }
 
@@ -132,6 +170,7 @@ pub enum ComplexForm {
 
 enum ComplexInner {
     Native(ComplexSymmetricFactor),
+    Single(MixedFactor<c64>),
     RealForm(RefinedFactor),
 }
 
@@ -154,13 +193,27 @@ impl ComplexFactor {
         ordering: Option<&(Vec<u32>, Vec<u32>)>,
         refine: usize,
     ) -> Result<Self, SolverError> {
-        let inner = match form {
-            ComplexForm::Native => ComplexInner::Native(ComplexSymmetricFactor::new(
-                &parts.re,
-                &parts.im,
-                ordering.map(|(f, i)| (&f[..], &i[..])),
-            )?),
-            ComplexForm::RealForm(kind) => {
+        Self::with_precision(parts, form, ordering, refine, FactorPrecision::Double)
+    }
+
+    /// As [`Self::new`] in the given precision: single factorises the n × n complex
+    /// symmetric matrix natively in c32 ([`MixedFactor`]) whatever `form` says.
+    pub fn with_precision(
+        parts: ComplexParts,
+        form: ComplexForm,
+        ordering: Option<&(Vec<u32>, Vec<u32>)>,
+        refine: usize,
+        precision: FactorPrecision,
+    ) -> Result<Self, SolverError> {
+        let ord = ordering.map(|(f, i)| (&f[..], &i[..]));
+        let inner = match (precision, form) {
+            (FactorPrecision::Single, _) => {
+                ComplexInner::Single(MixedFactor::complex(&parts.re, &parts.im, ord)?)
+            }
+            (FactorPrecision::Double, ComplexForm::Native) => {
+                ComplexInner::Native(ComplexSymmetricFactor::new(&parts.re, &parts.im, ord)?)
+            }
+            (FactorPrecision::Double, ComplexForm::RealForm(kind)) => {
                 let big = real_form(&parts.re, &parts.im);
                 let ordering2 = ordering.map(|(f, _)| doubled(f));
                 ComplexInner::RealForm(RefinedFactor::new(big, kind, ordering2.as_ref(), refine)?)
@@ -183,14 +236,25 @@ impl ComplexFactor {
     pub fn factor_nnz(&self) -> usize {
         match &self.inner {
             ComplexInner::Native(f) => f.factor_nnz(),
+            ComplexInner::Single(f) => f.factor_nnz(),
             ComplexInner::RealForm(f) => f.factor_nnz(),
         }
     }
 
-    /// Bytes of the factor's values (16 per complex entry, 8 per real one).
+    /// The refinement counts of a single-precision factor (None for a double one).
+    pub fn mixed_summary(&self) -> Option<MixedSummary> {
+        match &self.inner {
+            ComplexInner::Single(f) => Some(f.summary()),
+            _ => None,
+        }
+    }
+
+    /// Bytes of the factor's values (16 per complex entry, 8 per real one; single
+    /// precision half that).
     pub fn factor_bytes(&self) -> usize {
         match &self.inner {
             ComplexInner::Native(f) => 16 * f.factor_nnz(),
+            ComplexInner::Single(f) => f.factor_bytes(),
             ComplexInner::RealForm(f) => 8 * f.factor_nnz(),
         }
     }
@@ -200,6 +264,11 @@ impl ComplexFactor {
     pub fn solve_in_place(&self, mut rhs: MatMut<'_, c64>) {
         let f = match &self.inner {
             ComplexInner::Native(f) => f,
+            ComplexInner::Single(f) => {
+                let (re, im) = (&self.parts.re, &self.parts.im);
+                f.solve_in_place(&|x, y| spmm_complex(re, im, x, y), rhs);
+                return;
+            }
             ComplexInner::RealForm(f) => {
                 let (n, k) = (self.n(), rhs.ncols());
                 let mut big = Mat::<f64>::from_fn(2 * n, k, |i, j| {

@@ -9,6 +9,7 @@ use crate::fem::port::PortFrame;
 use crate::fem::{NedelecOrder, Space};
 use crate::linalg::eigen::{EigenOptions, EigenProgress};
 use crate::linalg::factor::FactorKind;
+use crate::linalg::mixed::FactorPrecision;
 use crate::modes::operator::ComplexForm;
 use antinode_mesh::TetMesh;
 use std::sync::Arc;
@@ -29,8 +30,11 @@ pub struct ModeSettings {
     /// Factorisation of the complex one (lossy loads or ports): native complex symmetric
     /// LDLᵀ; the real 2n form only as a reference in tests.
     pub complex_form: ComplexForm,
-    /// Iterative refinement steps per solve (0 or 1).
+    /// Iterative refinement steps per solve (0 or 1) of a double-precision factor.
     pub refine: usize,
+    /// Precision of the factor, real and complex paths: double, or single with every
+    /// solve refined in double ([`crate::linalg::mixed`]).
+    pub precision: FactorPrecision,
     pub eigen: EigenOptions,
     /// Largest number of modes a band solve may return.
     pub max_modes: usize,
@@ -61,6 +65,7 @@ impl ModeSettings {
             factor: FactorKind::Lblt,
             complex_form: ComplexForm::Native,
             refine: 1,
+            precision: FactorPrecision::Double,
             eigen: EigenOptions::default(),
             max_modes: 400,
             wall_conductivity: None,

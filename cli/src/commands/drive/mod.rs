@@ -193,6 +193,7 @@ pub fn run_with(
         antinode_solver::budget::DRIVEN_BASIS_COMPLEX,
         None,
         args.allow_large,
+        antinode_solver::linalg::mixed::FactorPrecision::Double,
     )?;
     let out = folder::prepare(&super::output_dir(args.out.as_deref(), &args.geometry))?;
     let (curved_mesh, mesh_s) = super::mesh::make_curved(&geom)?;
