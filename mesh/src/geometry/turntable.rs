@@ -16,7 +16,7 @@
 //! θ; a cylinder's centre moves so (its axis is vertical, so its shape is unchanged).
 //! The file's placement is θ = 0. Every angle is validated as the file itself is (loads
 //! inside the cavity, not overlapping any other load) before anything runs, and every
-//! riding load must stay clear of every port's aperture at every angle ([`aperture`]).
+//! riding load must stay clear of every port's aperture at every angle (submodule `aperture`).
 
 use super::context::{fmt_list, Ctx, Res};
 use super::raw::RawTurntable;
