@@ -28,27 +28,14 @@ const A: f64 = 0.30;
 const B: f64 = 0.30;
 const D: f64 = 0.20;
 
+/// Analytic frequencies (Hz) of the box up to `fmax`, with multiplicity (Pozar 4th ed. §6.3,
+/// through the suite's shared list).
 fn analytic(fmax: f64) -> Vec<f64> {
-    let mut fs = Vec::new();
-    for m in 0..12 {
-        for n in 0..12 {
-            for p in 0..12 {
-                let zeros = (m == 0) as u8 + (n == 0) as u8 + (p == 0) as u8;
-                if zeros > 1 {
-                    continue;
-                }
-                let f = C0 / 2.0
-                    * ((m as f64 / A).powi(2) + (n as f64 / B).powi(2) + (p as f64 / D).powi(2))
-                        .sqrt();
-                if f <= fmax {
-                    let mult = if zeros == 0 { 2 } else { 1 };
-                    fs.extend(std::iter::repeat_n(f, mult));
-                }
-            }
-        }
-    }
-    fs.sort_by(f64::total_cmp);
-    fs
+    let k2_max = (2.0 * std::f64::consts::PI * fmax / C0).powi(2);
+    antinode_tests::box_modes([A, B, D], k2_max)
+        .iter()
+        .map(|r| antinode_solver::constants::frequency_of(r.k2))
+        .collect()
 }
 
 fn peak_rss_mb() -> f64 {

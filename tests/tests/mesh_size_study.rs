@@ -130,25 +130,11 @@ impl Reference {
 
 /// Box analytic frequencies up to `fmax` (Pozar 4th ed. §6.3), with multiplicity.
 fn box_analytic(fmax: f64) -> Vec<f64> {
-    let [a, b, d] = [0.3, 0.3, 0.2];
-    let mut fs = Vec::new();
-    for m in 0..12 {
-        for n in 0..12 {
-            for p in 0..12 {
-                let zeros = (m == 0) as u8 + (n == 0) as u8 + (p == 0) as u8;
-                if zeros > 1 {
-                    continue;
-                }
-                let f = C0 / 2.0
-                    * ((m as f64 / a).powi(2) + (n as f64 / b).powi(2) + (p as f64 / d).powi(2))
-                        .sqrt();
-                if f <= fmax {
-                    fs.extend(std::iter::repeat_n(f, if zeros == 0 { 2 } else { 1 }));
-                }
-            }
-        }
-    }
-    fs
+    let k2_max = (2.0 * std::f64::consts::PI * fmax / C0).powi(2);
+    antinode_tests::box_modes([0.3, 0.3, 0.2], k2_max)
+        .iter()
+        .map(|r| antinode_solver::constants::frequency_of(r.k2))
+        .collect()
 }
 
 /// Pillbox a = 100 mm, d = 120 mm (Pozar 4th ed. §6.4): label, frequency (Hz),

@@ -244,34 +244,22 @@ impl Ctx<'_> {
         };
         match (&l.temperature, &material.dielectric) {
             (None, _) => Ok(material),
-            (Some(t), Dielectric::WaterDebye { .. }) => {
-                let tc = *t.get_ref();
-                let [lo, hi] = material::WATER_TEMPERATURE_RANGE_C;
-                if !(tc.is_finite() && (lo..=hi).contains(&tc)) {
-                    return Err(self.invalid(
-                        t.span(),
-                        item,
-                        "temperature",
-                        tc,
-                        format!("the water model covers {lo}..{hi} °C (liquid water)"),
-                    ));
-                }
-                Ok(Material::water(tc))
-            }
-            (Some(t), Dielectric::IceMaetzler { .. }) => {
-                let tc = *t.get_ref();
-                let [lo, hi] = material::ICE_TEMPERATURE_RANGE_C;
-                if !(tc.is_finite() && (lo..=hi).contains(&tc)) {
-                    return Err(self.invalid(
-                        t.span(),
-                        item,
-                        "temperature",
-                        tc,
-                        format!("the ice model is used over {lo}..{hi} °C"),
-                    ));
-                }
-                Ok(Material::ice(tc))
-            }
+            (Some(t), Dielectric::WaterDebye { .. }) => self
+                .model_temperature(
+                    t,
+                    item,
+                    material::WATER_TEMPERATURE_RANGE_C,
+                    ("the water model covers", " (liquid water)"),
+                )
+                .map(Material::water),
+            (Some(t), Dielectric::IceMaetzler { .. }) => self
+                .model_temperature(
+                    t,
+                    item,
+                    material::ICE_TEMPERATURE_RANGE_C,
+                    ("the ice model is used over", ""),
+                )
+                .map(Material::ice),
             (Some(t), _) => Err(self.invalid(
                 t.span(),
                 item,
@@ -279,6 +267,29 @@ impl Ctx<'_> {
                 t.get_ref(),
                 "applies only to material = \"water\" or \"ice\"; other materials have fixed values",
             )),
+        }
+    }
+
+    /// A load's `temperature` for a temperature-dependent model, checked against the
+    /// model's range `[lo, hi]` (°C); the message reads "{prefix} lo..hi °C{suffix}".
+    fn model_temperature(
+        &self,
+        t: &Spanned<f64>,
+        item: &Item,
+        [lo, hi]: [f64; 2],
+        (prefix, suffix): (&str, &str),
+    ) -> Res<f64> {
+        let tc = *t.get_ref();
+        if tc.is_finite() && (lo..=hi).contains(&tc) {
+            Ok(tc)
+        } else {
+            Err(self.invalid(
+                t.span(),
+                item,
+                "temperature",
+                tc,
+                format!("{prefix} {lo}..{hi} °C{suffix}"),
+            ))
         }
     }
 
