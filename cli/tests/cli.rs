@@ -19,6 +19,21 @@ fn mesh_writes_volume_and_boundary_files() {
     let stdout = text(&o.stdout);
     assert!(stdout.contains("tetrahedra"), "{stdout}");
     assert!(stdout.contains("order 2:"), "{stdout}");
+    // The region table's tetrahedra column adds up to the mesh's count (one region here).
+    let total: usize = stdout
+        .split("mesh: ")
+        .nth(1)
+        .and_then(|r| r.split(" tetrahedra").next())
+        .and_then(|r| r.rsplit(", ").next())
+        .and_then(|n| n.trim().parse().ok())
+        .expect("tetrahedra count on the mesh line");
+    let air: usize = stdout
+        .lines()
+        .find(|l| l.trim_start().starts_with("air "))
+        .and_then(|l| l.split_whitespace().nth(1))
+        .and_then(|n| n.parse().ok())
+        .expect("air row with a tetrahedra count");
+    assert_eq!(air, total, "{stdout}");
     assert!(out.join("mesh.vtu").is_file());
     assert!(out.join("boundary.vtu").is_file());
     std::fs::remove_dir_all(&dir).unwrap();

@@ -138,9 +138,15 @@ pub fn run(args: &MeshArgs) -> Result<()> {
         geom.mesh.per_wavelength, geom.solve.target, geom.mesh.max_size
     );
     let vols = mesh.region_volumes();
+    let mut region_tets = vec![0usize; mesh.regions.len()];
+    for &r in &mesh.tet_region {
+        if let Some(n) = region_tets.get_mut(r as usize) {
+            *n += 1;
+        }
+    }
     println!(
-        "  {:<20} {:>14} {:>14} {:>8} {:>12} {:>11}",
-        "region", "meshed volume", "nominal", "eps'", "wavelength", "size"
+        "  {:<20} {:>10} {:>14} {:>14} {:>8} {:>12} {:>11}",
+        "region", "tetrahedra", "meshed volume", "nominal", "eps'", "wavelength", "size"
     );
     for (id, info) in mesh.regions.iter().enumerate() {
         let nominal = if id == 0 {
@@ -167,8 +173,9 @@ pub fn run(args: &MeshArgs) -> Result<()> {
             None => ("-".into(), "-".into(), "-".into()),
         };
         println!(
-            "  {:<20} {:>14} {:>14} {:>8} {:>12} {:>11}",
+            "  {:<20} {:>10} {:>14} {:>14} {:>8} {:>12} {:>11}",
             info.name,
+            region_tets[id],
             units::volume(vols.get(id).copied().unwrap_or(0.0)),
             nominal,
             eps,
