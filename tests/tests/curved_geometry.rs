@@ -31,13 +31,6 @@ target = 2.45
     mesh_geometry_curved(&Geometry::from_toml_str(&toml, None).expect("geometry")).expect("mesh")
 }
 
-fn boundary(cm: &CurvedMesh) -> CurvedBoundary {
-    CurvedBoundary {
-        surfaces: cm.surfaces.clone(),
-        faces: cm.surface_faces.clone(),
-    }
-}
-
 /// The mapped pillbox volume against πa²d (analytic): the inscribed polygon misses by
 /// O(h²); the quadratic map by O(h⁴) and the cubic one (Lobatto edges, zero-mean face
 /// centres) by O(h⁶) — the orders the eigenvalue rates need (see the module docs of
@@ -50,7 +43,7 @@ fn pillbox_volume_converges_by_degree() {
     for size in [42.0, 30.0, 21.0] {
         let cm = pillbox(size);
         let topo = Topology::new(&cm.mesh);
-        let b = boundary(&cm);
+        let b = CurvedBoundary::from_mesh(&cm);
         let straight: f64 = cm.mesh.region_volumes().iter().sum();
         let mut err = [((straight - exact) / exact).abs(), 0.0, 0.0];
         for q in 2..=3u8 {
@@ -95,7 +88,13 @@ fn pillbox_volume_converges_by_degree() {
 fn single_curved_tet_volume_closed_form() {
     let cm = pillbox(42.0);
     let topo = Topology::new(&cm.mesh);
-    let g = CurvedGeometry::new(&cm.mesh, &topo, NedelecOrder::Two, &boundary(&cm)).expect("map");
+    let g = CurvedGeometry::new(
+        &cm.mesh,
+        &topo,
+        NedelecOrder::Two,
+        &CurvedBoundary::from_mesh(&cm),
+    )
+    .expect("map");
     assert_eq!(g.degree(), 2);
     let x = [
         [0.0, 0.0, 0.0],
@@ -134,7 +133,8 @@ fn identity_map_reproduces_exact_matrices() {
     let cm = pillbox(42.0);
     let topo = Topology::new(&cm.mesh);
     for order in [NedelecOrder::One, NedelecOrder::Two, NedelecOrder::Three] {
-        let g = CurvedGeometry::new(&cm.mesh, &topo, order, &boundary(&cm)).expect("map");
+        let g = CurvedGeometry::new(&cm.mesh, &topo, order, &CurvedBoundary::from_mesh(&cm))
+            .expect("map");
         let element = NedelecTet::new(order);
         let n = element.len();
         let c = CurvedTet { nodes: Vec::new() };

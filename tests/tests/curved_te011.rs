@@ -175,10 +175,7 @@ fn run(per_wl: f64) -> Result {
         s.count = 4;
         s.wall_conductivity = Some(SIGMA_CU);
         s.wall_losses = losses;
-        s.curved = Arc::new(CurvedBoundary {
-            surfaces: cm.surfaces.clone(),
-            faces: cm.surface_faces.clone(),
-        });
+        s.curved = Arc::new(CurvedBoundary::from_mesh(&cm));
         let t = Instant::now();
         let set = solve_modes(&cm.mesh, &[mat], &s, &mut |_| {}).expect("solve");
         let secs = t.elapsed().as_secs_f64();

@@ -74,10 +74,7 @@ fn run(curved: bool, near: Option<f64>) -> Found {
     let geom = Geometry::from_toml_str(GEOMETRY, None).expect("geometry");
     let cm = mesh_geometry_curved(&geom).expect("mesh");
     let boundary = match curved {
-        true => Arc::new(CurvedBoundary {
-            surfaces: cm.surfaces.clone(),
-            faces: cm.surface_faces.clone(),
-        }),
+        true => Arc::new(CurvedBoundary::from_mesh(&cm)),
         false => Arc::default(),
     };
     let mut ms = settings_from(&geom).expect("settings");

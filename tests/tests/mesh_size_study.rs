@@ -215,10 +215,7 @@ fn run(reference: Reference, order: u8, per_wavelength: f64) -> Row {
     let t0 = Instant::now();
     let cm = make_mesh_curved(&geom).expect("mesh");
     let mut settings = settings_from(&geom).expect("settings");
-    settings.curved = Arc::new(CurvedBoundary {
-        surfaces: cm.surfaces,
-        faces: cm.surface_faces,
-    });
+    settings.curved = Arc::new(CurvedBoundary::from_mesh(&cm));
     let mats = region_materials(&geom, settings.target_hz);
     let set = solve_modes(&cm.mesh, &mats, &settings, &mut |_| {}).expect("solve");
     let seconds = t0.elapsed().as_secs_f64();

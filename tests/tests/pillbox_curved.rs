@@ -79,10 +79,7 @@ target = 2.45
     s.band_hz = Some([frequency_of(lo), frequency_of(hi)]);
     s.count = 1;
     if curved {
-        s.curved = Arc::new(CurvedBoundary {
-            surfaces: cm.surfaces.clone(),
-            faces: cm.surface_faces.clone(),
-        });
+        s.curved = Arc::new(CurvedBoundary::from_mesh(&cm));
     }
     let set = solve_modes(&cm.mesh, &[RegionMaterial::VACUUM], &s, &mut |_| {}).expect("solve");
     let curved_tets = set.space.curved.as_ref().map_or(0, |c| c.n_curved());
@@ -222,10 +219,7 @@ target = 2.45
             s.wall_conductivity = Some(sigma);
             s.wall_losses = losses;
             if curved {
-                s.curved = Arc::new(CurvedBoundary {
-                    surfaces: cm.surfaces.clone(),
-                    faces: cm.surface_faces.clone(),
-                });
+                s.curved = Arc::new(CurvedBoundary::from_mesh(&cm));
             }
             let set =
                 solve_modes(&cm.mesh, &[RegionMaterial::VACUUM], &s, &mut |_| {}).expect("solve");
@@ -292,10 +286,7 @@ target = 2.45
     let k2 = (P01 / a).powi(2);
     let mut s = ModeSettings::new(frequency_of(k2));
     s.count = 1;
-    s.curved = Arc::new(CurvedBoundary {
-        surfaces: cm.surfaces.clone(),
-        faces: cm.surface_faces.clone(),
-    });
+    s.curved = Arc::new(CurvedBoundary::from_mesh(&cm));
     let set = solve_modes(&cm.mesh, &[RegionMaterial::VACUUM], &s, &mut |_| {}).expect("solve");
     let m = set
         .modes

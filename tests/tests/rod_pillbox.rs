@@ -161,10 +161,7 @@ target = 1.0
     s.band_hz = Some([frequency_of(lo), frequency_of(hi)]);
     s.count = 1;
     if curved {
-        s.curved = Arc::new(CurvedBoundary {
-            surfaces: cm.surfaces.clone(),
-            faces: cm.surface_faces.clone(),
-        });
+        s.curved = Arc::new(CurvedBoundary::from_mesh(&cm));
     }
     let t = Instant::now();
     let set =

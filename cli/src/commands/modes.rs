@@ -155,13 +155,12 @@ pub fn run_with(
         ))?),
     };
     let (curved_mesh, mesh_s) = super::mesh::make_curved(&geom)?;
-    let mesh = curved_mesh.mesh;
     if !args.straight {
-        settings.curved = std::sync::Arc::new(antinode_solver::fem::curved::CurvedBoundary {
-            surfaces: curved_mesh.surfaces,
-            faces: curved_mesh.surface_faces,
-        });
+        settings.curved = std::sync::Arc::new(
+            antinode_solver::fem::curved::CurvedBoundary::from_mesh(&curved_mesh),
+        );
     }
+    let mesh = curved_mesh.mesh;
 
     let (plan, avail, precision_reason) = check_plan(args, &mesh, &mats, &mut settings)?;
     let Some(out) = out else {

@@ -72,6 +72,16 @@ pub struct CurvedBoundary {
     pub faces: Vec<([u32; 3], u32)>,
 }
 
+impl CurvedBoundary {
+    /// The surfaces and faces a curved mesh from the built-in mesher carries.
+    pub fn from_mesh(cm: &antinode_mesh::mesher::CurvedMesh) -> Self {
+        Self {
+            surfaces: cm.surfaces.clone(),
+            faces: cm.surface_faces.clone(),
+        }
+    }
+}
+
 /// Geometry-map degree q for element order p: 2 for orders 1 and 2, 3 for order 3.
 pub fn geometry_degree(order: NedelecOrder) -> u8 {
     match order {

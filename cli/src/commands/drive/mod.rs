@@ -197,15 +197,14 @@ pub fn run_with(
     )?;
     let out = folder::prepare(&super::output_dir(args.out.as_deref(), &args.geometry))?;
     let (curved_mesh, mesh_s) = super::mesh::make_curved(&geom)?;
-    let mesh = curved_mesh.mesh;
-    check_plan(args, &mesh, &geom)?;
     let curved = match args.straight {
         true => Default::default(),
-        false => std::sync::Arc::new(antinode_solver::fem::curved::CurvedBoundary {
-            surfaces: curved_mesh.surfaces,
-            faces: curved_mesh.surface_faces,
-        }),
+        false => std::sync::Arc::new(antinode_solver::fem::curved::CurvedBoundary::from_mesh(
+            &curved_mesh,
+        )),
     };
+    let mesh = curved_mesh.mesh;
+    check_plan(args, &mesh, &geom)?;
 
     let settings = DriveSettings {
         order,
