@@ -16,7 +16,7 @@
 //! 2p − 1 (one order of slack for non-nested unstructured meshes: common practice, no
 //! source) — above the polygon's 2 in every case.
 
-use antinode_mesh::mesher::mesh_geometry_curved;
+use antinode_mesh::mesher::{mesh_geometry_curved, CurvedMesh};
 use antinode_mesh::Geometry;
 use antinode_solver::constants::frequency_of;
 use antinode_solver::fem::curved::CurvedBoundary;
@@ -51,26 +51,31 @@ struct Run {
     curved_tets: usize,
 }
 
-fn run(max_size_mm: f64, order: NedelecOrder, curved: bool) -> Run {
+/// The pillbox through the built-in mesher with its curved sides: element `order`, at most
+/// `max_size_mm` elements (per_wavelength 1 so that the size cap decides).
+fn pillbox_mesh(title: &str, order: u8, max_size_mm: f64) -> CurvedMesh {
     let toml = format!(
         r#"
-title = "pillbox validation"
+title = "{title}"
 [cavity]
 shape = "cylinder"
 radius = {A_MM}
 height = {D_MM}
 walls = "pec"
 [mesh]
-order = {}
+order = {order}
 per_wavelength = 1.0
 max_size = {max_size_mm}
 [solve]
 target = 2.45
-"#,
-        order.as_int()
+"#
     );
     let geom = Geometry::from_toml_str(&toml, None).expect("geometry");
-    let cm = mesh_geometry_curved(&geom).expect("mesh");
+    mesh_geometry_curved(&geom).expect("mesh")
+}
+
+fn run(max_size_mm: f64, order: NedelecOrder, curved: bool) -> Run {
+    let cm = pillbox_mesh("pillbox validation", order.as_int(), max_size_mm);
     let reference = reference();
     let lo = 0.8 * reference[0].1;
     let hi = 1.1 * reference[2].1;
@@ -186,24 +191,7 @@ fn pillbox_curved_tm010_wall_q() {
     use antinode_solver::constants::{C0, MU0};
     let sigma = 5.813e7;
     let (a, d) = (A_MM * 1e-3, D_MM * 1e-3);
-    let toml = format!(
-        r#"
-title = "pillbox wall Q"
-[cavity]
-shape = "cylinder"
-radius = {A_MM}
-height = {D_MM}
-walls = "pec"
-[mesh]
-order = 2
-per_wavelength = 1.0
-max_size = 15
-[solve]
-target = 2.45
-"#
-    );
-    let geom = Geometry::from_toml_str(&toml, None).expect("geometry");
-    let cm = mesh_geometry_curved(&geom).expect("mesh");
+    let cm = pillbox_mesh("pillbox wall Q", 2, 15.0);
     let k2 = (P01 / a).powi(2);
     let f = frequency_of(k2);
     let eta = MU0 * C0;
@@ -265,24 +253,7 @@ target = 2.45
 fn tm010_fields_use_curved_map() {
     use antinode_solver::post::field::{cell_values, node_values};
     let (a, d) = (A_MM * 1e-3, D_MM * 1e-3);
-    let toml = format!(
-        r#"
-title = "pillbox field"
-[cavity]
-shape = "cylinder"
-radius = {A_MM}
-height = {D_MM}
-walls = "pec"
-[mesh]
-order = 2
-per_wavelength = 1.0
-max_size = 30
-[solve]
-target = 2.45
-"#
-    );
-    let geom = Geometry::from_toml_str(&toml, None).expect("geometry");
-    let cm = mesh_geometry_curved(&geom).expect("mesh");
+    let cm = pillbox_mesh("pillbox field", 2, 30.0);
     let k2 = (P01 / a).powi(2);
     let mut s = ModeSettings::new(frequency_of(k2));
     s.count = 1;
