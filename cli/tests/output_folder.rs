@@ -324,3 +324,75 @@ fn materials_at_915_mhz_say_where_each_value_comes_from() {
     assert!(potato.contains("57.000"), "{potato}");
     assert!(potato.contains("outside the source's range"), "{potato}");
 }
+
+/// A box with no `[mesh]` sizes: the automatic size keeps the order's default when the
+/// memory allows it and relaxes it (recorded in modes.json) when `--memory` is small;
+/// given sizes are never relaxed, the run is refused instead. The budgets are our own
+/// arithmetic on this box's plans (order 3: about 330 MB at 3 per wavelength, 35k
+/// unknowns; under 40 MB at the floor of 1.5, 4k unknowns).
+#[test]
+fn automatic_size_relaxes_to_fit_the_memory_and_says_so() {
+    let dir = scratch("out", "autosize");
+    let geom = dir.join("auto_box.toml");
+    std::fs::write(
+        &geom,
+        "title = \"invented test: empty box, sizes left to the tool\"\n[cavity]\n\
+         shape = \"box\"\nsize = [300.0, 300.0, 200.0]\nwalls = \"pec\"\n[solve]\n\
+         target = 2.45\ncount = 4\n",
+    )
+    .unwrap();
+    let geom = geom.display().to_string();
+    let plenty = antinode(&["modes", &geom, "--plan", "--memory", "20"]);
+    assert!(plenty.status.success(), "{}", text(&plenty.stderr));
+    let s = text(&plenty.stdout);
+    assert!(
+        s.contains("the order's default, 3.00 elements per wavelength"),
+        "{s}"
+    );
+
+    let out = dir.join("out");
+    let small = antinode(&[
+        "modes",
+        &geom,
+        "--memory",
+        "0.15",
+        "--no-fields",
+        "--format",
+        "json",
+        "-o",
+        out.to_str().unwrap(),
+    ]);
+    assert!(small.status.success(), "{}", text(&small.stderr));
+    let doc: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("modes.json")).unwrap()).unwrap();
+    let size = &doc["solve"]["mesh_size"];
+    assert_eq!(size["sizing"], "automatic", "{size}");
+    let used = size["per_wavelength"].as_f64().unwrap();
+    assert!((1.5..3.0).contains(&used), "{size}");
+    assert_eq!(size["default_per_wavelength"].as_f64(), Some(3.0));
+    let planned = doc["solve"]["plan"]["memory_estimate_bytes"]
+        .as_f64()
+        .unwrap();
+    assert!(planned <= 0.7 * 0.15e9, "planned {planned} B");
+    // The last try that fitted is the one used.
+    let tried = size["tried"].as_array().unwrap();
+    assert!(tried.len() >= 2, "{size}");
+    assert!(tried
+        .iter()
+        .any(|t| t["per_wavelength"].as_f64() == Some(used) && t["counted"] == true));
+
+    // A given size is not relaxed: refused, naming --memory as the limit.
+    let given = antinode(&[
+        "modes",
+        &geom,
+        "--plan",
+        "--memory",
+        "0.15",
+        "--per-wavelength",
+        "3",
+    ]);
+    assert!(!given.status.success());
+    let e = text(&given.stderr);
+    assert!(e.contains("--memory"), "{e}");
+    std::fs::remove_dir_all(&dir).unwrap();
+}

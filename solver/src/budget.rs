@@ -30,6 +30,13 @@ pub fn fill_constant(order: NedelecOrder) -> f64 {
     }
 }
 
+/// A fill constant below every one measured, less about 25 %: with METIS 5.4–6.2 at
+/// order 1, 7.8–10 at order 2 and 8.2–8.9 at order 3 (`tests/tests/budget.rs` on the
+/// structured box, [`fill_constant`]'s docs; the 1 L oven example at order 3 counted
+/// 8.9). A plan with it is a lower bound, which lets a caller reject a size without
+/// counting its factor.
+pub const OPTIMISTIC_FILL: f64 = 4.0;
+
 /// What a solve will need.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Plan {
@@ -55,6 +62,35 @@ pub fn plan(mesh: &TetMesh, materials: &[RegionMaterial], settings: &ModeSetting
         basis_size(settings),
         settings.precision,
     )
+}
+
+/// [`plan`] with the factor's entries counted rather than estimated: the pattern of the
+/// space's coupling graph, its nested-dissection ordering (METIS) and the supernodal
+/// symbolic factorisation the solve will perform (no numeric work). The count is that of
+/// the unknowns before the ports' TE10 constraint (which the solve eliminates first, on a
+/// pattern that differs only on the apertures). Costs the ordering once more than the
+/// solve (seconds to a minute on the examples; the `--plan` line prints it).
+pub fn plan_counted(
+    mesh: &TetMesh,
+    materials: &[RegionMaterial],
+    settings: &ModeSettings,
+) -> Result<Plan, crate::SolverError> {
+    let space = settings.space(mesh);
+    let (indptr, indices) = crate::fem::assembly::pattern(&space.dofs);
+    let ordering = crate::linalg::ordering::nested_dissection_of_pattern(&indptr, &indices);
+    let entries = crate::linalg::supernodal_ldlt::factor_entries_of_pattern(
+        &indptr,
+        &indices,
+        ordering.as_ref().map(|(f, i)| (&f[..], &i[..])),
+    )?;
+    Ok(with_factor_entries(
+        space.n_dofs(),
+        settings.is_complex(materials),
+        settings.order,
+        basis_size(settings),
+        settings.precision,
+        entries as f64,
+    ))
 }
 
 /// Vectors of the eigen basis the plan counts: the iteration's basis, at least three per
@@ -103,8 +139,22 @@ pub fn estimate_with(
     basis: usize,
     precision: FactorPrecision,
 ) -> Plan {
+    let factor_entries = fill_constant(order) * (n as f64).powf(4.0 / 3.0);
+    with_factor_entries(n, complex, order, basis, precision, factor_entries)
+}
+
+/// The plan for `n` unknowns whose factor has `factor_entries` stored entries (counted or
+/// estimated): the factor's values with 30 % for the factorisation's workspace and the
+/// solves' copies, the matrices, the eigen basis and the mixed-precision work vectors.
+pub fn with_factor_entries(
+    n: usize,
+    complex: bool,
+    order: NedelecOrder,
+    basis: usize,
+    precision: FactorPrecision,
+    factor_entries: f64,
+) -> Plan {
     let nf = n as f64;
-    let factor_entries = fill_constant(order) * nf.powf(4.0 / 3.0);
     // K, M′, M″ and the shifted copy (real and imaginary parts when complex) each store
     // values and column indices (12 bytes per entry).
     let row = row_entries(order);

@@ -8,7 +8,7 @@
 //! prints estimate and measurement, the fitted c = factor / n^{4/3} and the growth exponent
 //! between the two sizes, and fails when a measurement exceeds its estimate.
 
-use antinode_solver::budget::{fill_constant, plan, row_entries};
+use antinode_solver::budget::{fill_constant, plan, plan_counted, row_entries, OPTIMISTIC_FILL};
 use antinode_solver::{solve_modes, ModeSettings, NedelecOrder, RegionMaterial};
 use antinode_tests::box_mesh;
 
@@ -54,6 +54,15 @@ fn estimate_covers_measured_factor_and_matrix() {
                 t.elapsed().as_secs_f64()
             );
             assert_eq!(est.n_dofs, st.n_dofs, "planned and solved unknowns differ");
+            // Consistency: the counted plan runs the solve's own ordering and symbolic
+            // factorisation on the same pattern (no ports), so the counts are equal.
+            let counted = plan_counted(&mesh, &[RegionMaterial::VACUUM], &s).expect("counted");
+            assert_eq!(
+                counted.factor_entries as usize,
+                st.factor_nnz,
+                "order {}: counted plan against the solve's factor",
+                order.as_int()
+            );
             assert!(
                 nnz <= row_entries(order),
                 "order {}: {nnz:.1} entries per row above the estimate {}",
@@ -65,6 +74,11 @@ fn estimate_covers_measured_factor_and_matrix() {
                 "order {}: factor {fac:.3e} entries above the estimate {:.3e}",
                 order.as_int(),
                 est.factor_entries
+            );
+            assert!(
+                c >= OPTIMISTIC_FILL,
+                "order {}: fill constant {c:.2} below the optimistic bound {OPTIMISTIC_FILL}",
+                order.as_int()
             );
             fits.push((n, fac));
         }

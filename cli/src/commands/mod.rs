@@ -1,6 +1,7 @@
 //! The `antinode` commands.
 
 pub mod drive;
+pub mod fit;
 pub mod materials;
 pub mod mesh;
 pub mod modes;

@@ -1,7 +1,10 @@
 //! `antinode modes`: mesh, memory check, eigen solve, table and files.
 
-use super::{plan, positive};
-use crate::output::json::{ModesDoc, PlanFigures, RefinementFigures, RegionInfo, SolveFigures};
+use super::{fit, plan, positive};
+use crate::output::json::{
+    MeshSizeFigures, ModesDoc, PlanFigures, RefinementFigures, RegionInfo, SizeAttemptFigures,
+    SolveFigures,
+};
 use crate::output::review;
 use crate::output::spectrum::{self, Spectrum, SpectrumMode};
 use crate::output::summary::{
@@ -84,9 +87,18 @@ pub struct ModesArgs {
     pub count: Option<usize>,
     #[command(flatten)]
     pub mesh: super::MeshOptions,
-    /// Solve even when the memory estimate exceeds the memory available.
+    /// Solve even when the memory estimate exceeds the memory available (and mesh at the
+    /// default size instead of relaxing it to fit).
     #[arg(long)]
     pub allow_large: bool,
+    /// Plan against this much memory (GB) instead of what the machine has available
+    /// (MemAvailable or the container's limit), e.g. to leave room for other work.
+    #[arg(long, value_name = "GB")]
+    pub memory: Option<f64>,
+    /// Mesh at the asked or default size, never relaxing it to fit the memory (set by
+    /// `sweep`, whose variants compare at equal sizes).
+    #[arg(skip)]
+    pub fixed_size: bool,
     /// Keep every tetrahedron straight (cylinder sides as the meshed polygon) instead of
     /// curving the elements on them; for comparison.
     #[arg(long)]
@@ -137,15 +149,40 @@ pub fn run_with(
         PrecisionArg::Double => FactorPrecision::Double,
         PrecisionArg::Auto | PrecisionArg::Single => FactorPrecision::Single,
     };
-    let pre = plan::before_meshing(
-        &geom,
-        order,
-        complex,
-        basis,
-        Some(count),
-        args.allow_large,
-        lowest,
-    )?;
+    let avail = memory_available(args)?;
+    // Automatic size: no per_wavelength given, the built-in mesher, and no request to
+    // solve as asked whatever the memory.
+    let auto_size = !geom.mesh.per_wavelength_given
+        && geom.mesh.import.is_none()
+        && !args.allow_large
+        && !args.fixed_size;
+    let pre = if auto_size {
+        // Refused before meshing only when even the coarsest automatic size would not fit.
+        let mut floor = geom.clone();
+        fit::set_size(&mut floor, fit::floor_per_wavelength(order));
+        plan::before_meshing(
+            &floor,
+            order,
+            complex,
+            basis,
+            Some(count),
+            false,
+            lowest,
+            avail,
+        )?;
+        None
+    } else {
+        plan::before_meshing(
+            &geom,
+            order,
+            complex,
+            basis,
+            Some(count),
+            args.allow_large,
+            lowest,
+            avail,
+        )?
+    };
     // The output folder is checked (and its staging folder made) before meshing.
     let out = match args.plan {
         true => None,
@@ -154,7 +191,26 @@ pub fn run_with(
             &args.geometry,
         ))?),
     };
-    let (curved_mesh, mesh_s) = super::mesh::make_curved(&geom)?;
+    let (curved_mesh, mesh_s, fitted) = match avail {
+        Some(a) if auto_size => {
+            let f = fit::mesh_to_fit(&mut geom, &settings, &mats, lowest, a.bytes)?;
+            if args.format == Format::Table {
+                println!("{}", f.summary());
+            }
+            let (mesh, mesh_s) = (f.mesh, f.mesh_s);
+            let fit = Some((f.plan.factor_entries, f.asked, f.used, f.attempts));
+            (mesh, mesh_s, fit)
+        }
+        _ => {
+            let (mesh, mesh_s) = super::mesh::make_curved(&geom)?;
+            (mesh, mesh_s, None)
+        }
+    };
+    // What --plan prints before the mesh: the estimate at the size used.
+    let pre = match (pre, &fitted) {
+        (None, Some(_)) => plan::estimate_before_meshing(&geom, order, complex, basis, lowest)?,
+        (p, _) => p,
+    };
     if !args.straight {
         settings.curved = std::sync::Arc::new(
             antinode_solver::fem::curved::CurvedBoundary::from_mesh(&curved_mesh),
@@ -162,7 +218,22 @@ pub fn run_with(
     }
     let mesh = curved_mesh.mesh;
 
-    let (plan, avail, precision_reason) = check_plan(args, &mesh, &mats, &mut settings)?;
+    let counted = match &fitted {
+        Some((entries, ..)) => *entries,
+        None => budget::plan_counted(&mesh, &mats, &settings)?.factor_entries,
+    };
+    let sizing = fitted.map(|(_, asked, used, attempts)| SizeFit {
+        asked,
+        used,
+        attempts,
+    });
+    // An automatic size was planned within fit::FIT_SHARE; the precision keeps to it.
+    let share = match sizing {
+        Some(_) => fit::FIT_SHARE,
+        None => plan::MEMORY_SHARE,
+    };
+    let (plan, avail, precision_reason) =
+        check_plan(args, &mesh, &mats, &mut settings, counted, avail, share)?;
     let Some(out) = out else {
         plan::print_plan_only(&plan, pre.as_ref(), mesh.tets.len(), mesh_s);
         return Ok(());
@@ -243,7 +314,15 @@ pub fn run_with(
             good_coupling,
             q_check_max_relative,
         ),
-        solve: solve_figures(&mesh, mesh_s, st, &plan, avail, precision_reason),
+        solve: solve_figures(
+            &mesh,
+            mesh_s,
+            st,
+            &plan,
+            avail,
+            precision_reason,
+            mesh_size_figures(&geom, sizing.as_ref()),
+        ),
         accuracy: review::accuracy_figures(
             &run_review.accuracy,
             &mesh
@@ -326,22 +405,42 @@ pub(crate) fn apply_overrides(args: &ModesArgs, geom: &mut Geometry) -> Result<O
     Ok(band_from)
 }
 
-/// The solver's plan (unknowns, memory) against the memory available: chooses the
+/// The memory this run may use: `--memory` when given, else what the machine has
+/// available ([`crate::budget::available`]).
+fn memory_available(args: &ModesArgs) -> Result<Option<crate::budget::Available>> {
+    Ok(match args.memory {
+        Some(gb) => Some(crate::budget::Available {
+            bytes: positive("--memory", gb)? * 1e9,
+            source: "--memory",
+        }),
+        None => crate::budget::available(),
+    })
+}
+
+/// The solver's plan (unknowns, memory, with the factor's `factor_entries` as counted by
+/// the symbolic factorisation) against the memory this run may use (`avail`): chooses the
 /// factor's precision (`--factor-precision`; sets `settings.precision`), refuses a run
 /// that would not fit unless --allow-large; prints the plan for the table format.
+/// `auto` precision takes double when its plan fits `precision_share` of `avail`.
 /// Returns the plan, the memory available and why the precision was chosen.
 fn check_plan(
     args: &ModesArgs,
     mesh: &TetMesh,
     mats: &[RegionMaterial],
     settings: &mut ModeSettings,
+    factor_entries: f64,
+    avail: Option<crate::budget::Available>,
+    precision_share: f64,
 ) -> Result<(Plan, Option<f64>, String)> {
     let order = settings.order;
-    let avail = crate::budget::available();
-    // Unknowns and memory from the solver's plan, before any assembly.
-    settings.precision = FactorPrecision::Double;
-    let double = budget::plan(mesh, mats, settings);
-    let limit = avail.map(|a| plan::MEMORY_SHARE * a.bytes);
+    let n = settings.space(mesh).n_dofs();
+    let complex = settings.is_complex(mats);
+    let basis = budget::basis_size(settings);
+    let plan_at = |precision| {
+        budget::with_factor_entries(n, complex, order, basis, precision, factor_entries)
+    };
+    let double = plan_at(FactorPrecision::Double);
+    let limit = avail.map(|a| precision_share * a.bytes);
     let (precision, reason) = match (args.factor_precision, limit) {
         (PrecisionArg::Double, _) => (FactorPrecision::Double, "--factor-precision double".into()),
         (PrecisionArg::Single, _) => (FactorPrecision::Single, "--factor-precision single".into()),
@@ -349,30 +448,25 @@ fn check_plan(
             FactorPrecision::Double,
             "auto: available memory unknown, double".into(),
         ),
-        (PrecisionArg::Auto, Some(l)) => {
-            let basis = budget::basis_size(settings);
-            match budget::choose_precision(double.n_dofs, double.complex, order, basis, l) {
-                FactorPrecision::Double => (
-                    FactorPrecision::Double,
-                    format!(
-                        "auto: the double plan {} fits the {} this run may use",
-                        units::bytes(double.memory_bytes),
-                        units::bytes(l)
-                    ),
-                ),
-                FactorPrecision::Single => (
-                    FactorPrecision::Single,
-                    format!(
-                        "auto: the double plan {} exceeds the {} this run may use",
-                        units::bytes(double.memory_bytes),
-                        units::bytes(l)
-                    ),
-                ),
-            }
-        }
+        (PrecisionArg::Auto, Some(l)) if double.memory_bytes <= l => (
+            FactorPrecision::Double,
+            format!(
+                "auto: the double plan {} fits the {} this run may use",
+                units::bytes(double.memory_bytes),
+                units::bytes(l)
+            ),
+        ),
+        (PrecisionArg::Auto, Some(l)) => (
+            FactorPrecision::Single,
+            format!(
+                "auto: the double plan {} exceeds the {} this run may use",
+                units::bytes(double.memory_bytes),
+                units::bytes(l)
+            ),
+        ),
     };
     settings.precision = precision;
-    let plan = budget::plan(mesh, mats, settings);
+    let plan = plan_at(precision);
     if settings.count > plan.n_dofs {
         bail!(
             "--count {} asks for more modes than this problem has unknowns ({} at order {}): \
@@ -383,12 +477,13 @@ fn check_plan(
         );
     }
     // When the eigen basis for a large --count dominates, say so.
-    let usual = budget::estimate_with(
-        plan.n_dofs,
-        plan.complex,
+    let usual = budget::with_factor_entries(
+        n,
+        complex,
         order,
         settings.eigen.basis,
         precision,
+        factor_entries,
     );
     let basis_note = (plan.memory_bytes > 2.0 * usual.memory_bytes).then(|| {
         format!(
@@ -401,10 +496,12 @@ fn check_plan(
     plan::check_solve(&plan, order, avail, basis_note, args.allow_large)?;
     if args.format == Format::Table {
         println!(
-            "plan: {} unknowns{}{}, estimated peak memory {} (solver's estimate){}",
+            "plan: {} unknowns{}{}, {:.3e} factor entries (counted), estimated peak memory \
+             {} (solver's plan){}",
             plan.n_dofs,
             if plan.complex { " (complex)" } else { "" },
             plan::port_note(settings.ports.len()),
+            plan.factor_entries,
             units::bytes(plan.memory_bytes),
             match avail {
                 Some(a) => format!(", {} available ({})", units::bytes(a.bytes), a.source),
@@ -620,6 +717,46 @@ fn band_summary(
 }
 
 /// Sizes and times of the solve, with the plan made before it.
+/// What the automatic size did (`fit::mesh_to_fit`).
+struct SizeFit {
+    asked: f64,
+    used: f64,
+    attempts: Vec<fit::Attempt>,
+}
+
+fn mesh_size_figures(geom: &Geometry, sizing: Option<&SizeFit>) -> MeshSizeFigures {
+    let pw = geom
+        .mesh
+        .import
+        .is_none()
+        .then_some(geom.mesh.per_wavelength);
+    match sizing {
+        Some(f) => MeshSizeFigures {
+            sizing: "automatic".into(),
+            per_wavelength: Some(f.used),
+            default_per_wavelength: Some(f.asked),
+            tried: f
+                .attempts
+                .iter()
+                .map(|a| SizeAttemptFigures {
+                    per_wavelength: a.per_wavelength,
+                    tets: a.tets,
+                    unknowns: a.unknowns,
+                    memory_bytes: a.bytes,
+                    counted: a.counted,
+                })
+                .collect(),
+        },
+        None => MeshSizeFigures {
+            sizing: "given".into(),
+            per_wavelength: pw,
+            default_per_wavelength: None,
+            tried: Vec::new(),
+        },
+    }
+}
+
+#[allow(clippy::too_many_arguments)]
 fn solve_figures(
     mesh: &TetMesh,
     mesh_s: f64,
@@ -627,8 +764,10 @@ fn solve_figures(
     plan: &Plan,
     avail: Option<f64>,
     precision_reason: String,
+    mesh_size: MeshSizeFigures,
 ) -> SolveFigures {
     SolveFigures {
+        mesh_size,
         factor_precision: st.precision.name().to_string(),
         factor_precision_reason: precision_reason,
         refinement: st.mixed.map(|m| RefinementFigures {

@@ -51,6 +51,7 @@ impl PrePlan {
 /// Refuses a run whose plan exceeds the memory available unless `allow_large`; the solve
 /// is planned with a factor of precision `lowest` (single when the run may fall back to
 /// it, so that it is not refused for a double plan it would not use).
+#[allow(clippy::too_many_arguments)]
 pub fn before_meshing(
     geom: &Geometry,
     order: NedelecOrder,
@@ -59,20 +60,13 @@ pub fn before_meshing(
     count: Option<CountBasis>,
     allow_large: bool,
     lowest: FactorPrecision,
+    avail: Option<Available>,
 ) -> Result<Option<PrePlan>> {
-    if geom.mesh.import.is_some() {
+    let Some(plan) = estimate_before_meshing(geom, order, complex, basis, lowest)? else {
         return Ok(None);
-    }
-    let sizes = mesher::element_sizes(geom)?;
-    let est = mesher::estimate(geom, &sizes)?;
-    let unknowns = budget::unknowns_from_tets(est.tets, order);
-    let solve = budget::estimate_with(unknowns as usize, complex, order, basis, lowest);
-    let plan = PrePlan {
-        tets: est.tets,
-        unknowns,
-        meshing_bytes: MESHING_BYTES_PER_TET * est.tets,
-        solve_bytes: solve.memory_bytes,
     };
+    let unknowns = plan.unknowns;
+    let solve = budget::estimate_with(unknowns as usize, complex, order, basis, lowest);
     let mut basis_note = String::new();
     if let Some(c) = count {
         // The estimate may be 1/0.87 off the mesher's count (mesher::ESTIMATE_MARGIN).
@@ -95,7 +89,7 @@ pub fn before_meshing(
             );
         }
     }
-    if let Some(a) = crate::budget::available() {
+    if let Some(a) = avail {
         if plan.peak_bytes() > MEMORY_SHARE * a.bytes && !allow_large {
             bail!(
                 "this run would need an estimated {} before it starts meshing (about {:.2e} \
@@ -115,6 +109,30 @@ pub fn before_meshing(
         }
     }
     Ok(Some(plan))
+}
+
+/// The plan before meshing without any check: the mesher's element-count estimate,
+/// unknowns and the solver's estimate; `None` for an imported mesh.
+pub fn estimate_before_meshing(
+    geom: &Geometry,
+    order: NedelecOrder,
+    complex: bool,
+    basis: usize,
+    lowest: FactorPrecision,
+) -> Result<Option<PrePlan>> {
+    if geom.mesh.import.is_some() {
+        return Ok(None);
+    }
+    let sizes = mesher::element_sizes(geom)?;
+    let est = mesher::estimate(geom, &sizes)?;
+    let unknowns = budget::unknowns_from_tets(est.tets, order);
+    let solve = budget::estimate_with(unknowns as usize, complex, order, basis, lowest);
+    Ok(Some(PrePlan {
+        tets: est.tets,
+        unknowns,
+        meshing_bytes: MESHING_BYTES_PER_TET * est.tets,
+        solve_bytes: solve.memory_bytes,
+    }))
 }
 
 /// Refuses a solve whose exact plan (after meshing) exceeds the memory available.
@@ -169,8 +187,9 @@ const COMPLEX_TIME_FACTOR: f64 = 1.8;
 
 /// Rough wall time of the solve on the 2-core development machine.
 pub fn time_estimate(plan: &budget::Plan) -> f64 {
-    let reference =
-        budget::estimate(TIME_REF.0 as usize, false, NedelecOrder::Two, 80).factor_entries;
+    // The plan's entries are counted; the reference's are its measured fill constant
+    // (≈ 10 at order 2 on the empty box, `budget::fill_constant`'s docs) times n^{4/3}.
+    let reference = 10.0 * TIME_REF.0.powf(4.0 / 3.0);
     let ratio = (plan.factor_entries / reference).powf(TIME_EXPONENT);
     TIME_REF.1
         * ratio
@@ -193,8 +212,8 @@ pub fn print_plan_only(plan: &budget::Plan, pre: Option<&PrePlan>, tets: usize, 
         );
     }
     println!(
-        "mesh: {tets} tetrahedra in {mesh_s:.2} s; solve: {} unknowns, ~{:.2e} factor entries \
-         (solver's fill estimate), peak memory ~{}",
+        "mesh: {tets} tetrahedra in {mesh_s:.2} s; solve: {} unknowns, {:.3e} factor entries \
+         (counted by the symbolic factorisation), peak memory ~{}",
         plan.n_dofs,
         plan.factor_entries,
         units::bytes(plan.memory_bytes)

@@ -15,7 +15,9 @@ pub struct PlanFigures {
     pub unknowns: usize,
     /// Whether losses or ports make the problem complex (complex symmetric LDLᵀ).
     pub complex: bool,
-    /// Estimated entries of the sparse factor (solver's fill estimate).
+    /// Entries of the sparse factor, counted by the symbolic factorisation of the
+    /// unknowns before the port constraint (`budget::plan_counted`; the solve's own count,
+    /// after the constraint, is `factor_nnz`).
     pub factor_entries_estimate: f64,
     /// Estimated peak memory, bytes.
     pub memory_estimate_bytes: f64,
@@ -23,9 +25,36 @@ pub struct PlanFigures {
     pub memory_available_bytes: Option<f64>,
 }
 
+/// How the mesh size was chosen.
+#[derive(Clone, Debug, Serialize)]
+pub struct MeshSizeFigures {
+    /// "automatic" (no per_wavelength given: the order's default, relaxed to fit the
+    /// memory when needed) or "given" (file or command line; also sweeps, imports and
+    /// --allow-large).
+    pub sizing: String,
+    /// Elements per local wavelength the mesh was made with (None for an import).
+    pub per_wavelength: Option<f64>,
+    /// The order's default the automatic size started from.
+    pub default_per_wavelength: Option<f64>,
+    /// The meshes the automatic size tried, in order.
+    pub tried: Vec<SizeAttemptFigures>,
+}
+
+/// One mesh the automatic size tried.
+#[derive(Clone, Debug, Serialize)]
+pub struct SizeAttemptFigures {
+    pub per_wavelength: f64,
+    pub tets: usize,
+    pub unknowns: usize,
+    /// Planned peak memory, bytes: counted, or a lower bound when `counted` is false.
+    pub memory_bytes: f64,
+    pub counted: bool,
+}
+
 /// Figures of the solve (measured, except the `plan`).
 #[derive(Clone, Debug, Serialize)]
 pub struct SolveFigures {
+    pub mesh_size: MeshSizeFigures,
     pub nodes: usize,
     pub tets: usize,
     /// Whether the complex (lossy or fed) path was used.

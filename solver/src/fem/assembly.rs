@@ -50,7 +50,7 @@ pub struct SystemMatrices {
 }
 
 /// Sparsity pattern (CSR row pointers and sorted column indices) of the coupling graph.
-fn pattern(dofs: &DofMap) -> (Vec<u32>, Vec<u32>) {
+pub(crate) fn pattern(dofs: &DofMap) -> (Vec<u32>, Vec<u32>) {
     let n = dofs.n_dofs;
     let nl = dofs.n_local;
     let n_tets = dofs.tet_dofs.len() / nl;

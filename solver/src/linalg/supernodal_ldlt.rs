@@ -77,6 +77,46 @@ struct Matrix<'a, F> {
     inv: &'a [u32],
 }
 
+/// The supernodal symbolic factorisation [`SupernodalLdlt::new`] starts with, of a
+/// pattern in CSR form (row pointers, sorted column indices; full symmetric storage).
+fn symbolic_of(
+    n: usize,
+    indptr: &[u32],
+    indices: &[u32],
+    ordering: Option<(&[u32], &[u32])>,
+) -> Result<SymbolicCholesky<u32>, SolverError> {
+    let sym = SymbolicSparseColMatRef::new_checked(n, n, indptr, None, indices);
+    let ord = match ordering {
+        Some((fwd, inv)) => SymmetricOrdering::Custom(PermRef::new_checked(fwd, inv, n)),
+        None => SymmetricOrdering::Amd,
+    };
+    let params = CholeskySymbolicParams {
+        supernodal_flop_ratio_threshold: SupernodalThreshold::FORCE_SUPERNODAL,
+        ..Default::default()
+    };
+    factorize_symbolic_cholesky(sym, Side::Upper, ord, params)
+        .map_err(|e| symbolic_error(n, format!("{e:?}")))
+}
+
+/// Stored entries the factor of a matrix with this pattern (CSR row pointers and sorted
+/// column indices, full symmetric storage) will have under `ordering`: exactly the count
+/// [`SupernodalLdlt::new`] allocates, from the same symbolic factorisation, without any
+/// numeric work.
+pub fn factor_entries_of_pattern(
+    indptr: &[u32],
+    indices: &[u32],
+    ordering: Option<(&[u32], &[u32])>,
+) -> Result<usize, SolverError> {
+    let n = indptr.len().saturating_sub(1);
+    let symbolic = symbolic_of(n, indptr, indices, ordering)?;
+    match symbolic.raw() {
+        SymbolicCholeskyRaw::Supernodal(sn) => Ok(sn.len_val()),
+        SymbolicCholeskyRaw::Simplicial(_) => {
+            Err(symbolic_error(n, "no supernodal structure".into()))
+        }
+    }
+}
+
 impl<T: FactorScalar> SupernodalLdlt<T> {
     /// Factorise the matrix with pattern `pattern` (full symmetric storage) whose p-th
     /// stored entry is `value(p)`, with the fill-reducing `ordering` (forward, inverse)
@@ -91,23 +131,12 @@ impl<T: FactorScalar> SupernodalLdlt<T> {
         step: FactorStep,
     ) -> Result<Self, SolverError> {
         let n = pattern.rows();
-        let sym = SymbolicSparseColMatRef::new_checked(
-            n,
+        let symbolic = symbolic_of(
             n,
             pattern.indptr().into_raw_storage(),
-            None,
             pattern.indices(),
-        );
-        let ord = match ordering {
-            Some((fwd, inv)) => SymmetricOrdering::Custom(PermRef::new_checked(fwd, inv, n)),
-            None => SymmetricOrdering::Amd,
-        };
-        let params = CholeskySymbolicParams {
-            supernodal_flop_ratio_threshold: SupernodalThreshold::FORCE_SUPERNODAL,
-            ..Default::default()
-        };
-        let symbolic = factorize_symbolic_cholesky(sym, Side::Upper, ord, params)
-            .map_err(|e| symbolic_error(n, format!("{e:?}")))?;
+            ordering,
+        )?;
         let SymbolicCholeskyRaw::Supernodal(sn) = symbolic.raw() else {
             return Err(symbolic_error(n, "no supernodal structure".into()));
         };

@@ -194,6 +194,7 @@ pub fn run_with(
         None,
         args.allow_large,
         antinode_solver::linalg::mixed::FactorPrecision::Double,
+        crate::budget::available(),
     )?;
     let out = folder::prepare(&super::output_dir(args.out.as_deref(), &args.geometry))?;
     let (curved_mesh, mesh_s) = super::mesh::make_curved(&geom)?;

@@ -169,7 +169,9 @@ pub fn run_one(sweep: &SweepFile, dir: &Path, v: &Variant) -> Result<()> {
         let l = line(sweep, kind, &geometry, &out);
         match kind {
             RunKind::Modes => {
-                let args = ModesLine::try_parse_from(&l)?.args;
+                let mut args = ModesLine::try_parse_from(&l)?.args;
+                // Variants compare at equal sizes: no automatic relaxation per variant.
+                args.fixed_size = true;
                 let mut doc = None;
                 modes::run_with(&args, &mut |set, _| {
                     doc = Some(probe_doc(set));
