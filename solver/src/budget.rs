@@ -76,21 +76,27 @@ pub fn plan_counted(
     settings: &ModeSettings,
 ) -> Result<Plan, crate::SolverError> {
     let space = settings.space(mesh);
-    let (indptr, indices) = crate::fem::assembly::pattern(&space.dofs);
-    let ordering = crate::linalg::ordering::nested_dissection_of_pattern(&indptr, &indices);
-    let entries = crate::linalg::supernodal_ldlt::factor_entries_of_pattern(
-        &indptr,
-        &indices,
-        ordering.as_ref().map(|(f, i)| (&f[..], &i[..])),
-    )?;
     Ok(with_factor_entries(
         space.n_dofs(),
         settings.is_complex(materials),
         settings.order,
         basis_size(settings),
         settings.precision,
-        entries as f64,
+        factor_entries_counted(&space)? as f64,
     ))
+}
+
+/// Entries of the factor of a matrix on `space`'s coupling pattern: the nested-dissection
+/// ordering (METIS) and the supernodal symbolic factorisation the solves run, without
+/// numeric work.
+pub fn factor_entries_counted(space: &Space<'_>) -> Result<usize, crate::SolverError> {
+    let (indptr, indices) = crate::fem::assembly::pattern(&space.dofs);
+    let ordering = crate::linalg::ordering::nested_dissection_of_pattern(&indptr, &indices);
+    crate::linalg::supernodal_ldlt::factor_entries_of_pattern(
+        &indptr,
+        &indices,
+        ordering.as_ref().map(|(f, i)| (&f[..], &i[..])),
+    )
 }
 
 /// Vectors of the eigen basis the plan counts: the iteration's basis, at least three per
@@ -183,6 +189,23 @@ pub const DRIVEN_BASIS_COMPLEX: usize = 100;
 pub fn plan_driven(mesh: &TetMesh, order: NedelecOrder, n_ports: usize) -> Plan {
     let space = Space::with_ports(mesh, order, n_ports);
     estimate(space.n_dofs(), true, order, DRIVEN_BASIS_COMPLEX)
+}
+
+/// [`plan_driven`] with the factor's entries counted ([`factor_entries_counted`]).
+pub fn plan_driven_counted(
+    mesh: &TetMesh,
+    order: NedelecOrder,
+    n_ports: usize,
+) -> Result<Plan, crate::SolverError> {
+    let space = Space::with_ports(mesh, order, n_ports);
+    Ok(with_factor_entries(
+        space.n_dofs(),
+        true,
+        order,
+        DRIVEN_BASIS_COMPLEX,
+        FactorPrecision::Double,
+        factor_entries_counted(&space)? as f64,
+    ))
 }
 
 /// The precision `auto` chooses: double when its plan fits in `limit` bytes, single

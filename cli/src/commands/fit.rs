@@ -18,7 +18,7 @@ use super::mesh::make_curved;
 use crate::units;
 use antinode_mesh::geometry::default_max_size_mm;
 use antinode_mesh::mesher::CurvedMesh;
-use antinode_mesh::Geometry;
+use antinode_mesh::{Geometry, TetMesh};
 use antinode_solver::budget::{self, Plan};
 use antinode_solver::fem::assembly::RegionMaterial;
 use antinode_solver::linalg::mixed::FactorPrecision;
@@ -27,7 +27,7 @@ use anyhow::Result;
 
 /// Share of the memory this run may use that an automatically sized solve plans for:
 /// our choice, below the refusal's 0.9 so that the run is well inside memory, with room
-/// for the plan's own error (counted plans measured 1.05–1.15× above the peak on the
+/// for the plan's own error (counted plans measured 1.04–1.28× the peak on the
 /// examples, README Performance) and for other programs.
 pub const FIT_SHARE: f64 = 0.7;
 
@@ -78,6 +78,8 @@ pub struct Fitted {
     pub attempts: Vec<Attempt>,
     /// Bytes the search planned for (FIT_SHARE of the memory this run may use).
     pub share_bytes: f64,
+    /// Whether `plan` fits `share_bytes` (else `mesh` is the floor's).
+    pub fits: bool,
 }
 
 impl Fitted {
@@ -101,7 +103,16 @@ impl Fitted {
                 )
             })
             .collect();
-        if self.relaxed() {
+        if !self.fits {
+            format!(
+                "automatic mesh size: even the order's floor, {:.2} elements per wavelength, \
+                 plans above {} ({:.0} % of the memory this run may use); tried {}",
+                self.used,
+                units::bytes(self.share_bytes),
+                FIT_SHARE * 100.0,
+                tried.join("; ")
+            )
+        } else if self.relaxed() {
             format!(
                 "automatic mesh size: {:.2} elements per wavelength instead of the order's \
                  default {:.2}, so that the solve plans within {} ({:.0} % of the memory this \
@@ -132,25 +143,96 @@ pub fn set_size(geom: &mut Geometry, p: f64) {
     }
 }
 
+/// What the search needs of a command's plan.
+pub trait SizePlanner {
+    /// Unknowns of the command's space on `mesh`.
+    fn unknowns(&self, mesh: &TetMesh) -> usize;
+    /// A lower bound of the plan for `n` unknowns ([`budget::OPTIMISTIC_FILL`]).
+    fn optimistic(&self, n: usize) -> Plan;
+    /// The plan with the factor's entries counted.
+    fn counted(&self, mesh: &TetMesh) -> Result<Plan>;
+}
+
+/// `modes`: its settings (the space with impedance walls when they enter the solve) at
+/// the lowest precision the run allows.
+pub struct ModesPlanner<'a> {
+    settings: ModeSettings,
+    materials: &'a [RegionMaterial],
+}
+
+impl<'a> ModesPlanner<'a> {
+    pub fn new(
+        settings: &ModeSettings,
+        materials: &'a [RegionMaterial],
+        precision: FactorPrecision,
+    ) -> Self {
+        let mut settings = settings.clone();
+        settings.precision = precision;
+        Self {
+            settings,
+            materials,
+        }
+    }
+}
+
+impl SizePlanner for ModesPlanner<'_> {
+    fn unknowns(&self, mesh: &TetMesh) -> usize {
+        self.settings.space(mesh).n_dofs()
+    }
+    fn optimistic(&self, n: usize) -> Plan {
+        let s = &self.settings;
+        budget::with_factor_entries(
+            n,
+            s.is_complex(self.materials),
+            s.order,
+            budget::basis_size(s),
+            s.precision,
+            budget::OPTIMISTIC_FILL * (n as f64).powf(4.0 / 3.0),
+        )
+    }
+    fn counted(&self, mesh: &TetMesh) -> Result<Plan> {
+        Ok(budget::plan_counted(mesh, self.materials, &self.settings)?)
+    }
+}
+
+/// `drive`: complex, double precision, its sweep basis, the ports' unknowns.
+pub struct DrivePlanner {
+    pub order: NedelecOrder,
+    pub ports: usize,
+}
+
+impl SizePlanner for DrivePlanner {
+    fn unknowns(&self, mesh: &TetMesh) -> usize {
+        antinode_solver::fem::Space::with_ports(mesh, self.order, self.ports).n_dofs()
+    }
+    fn optimistic(&self, n: usize) -> Plan {
+        budget::with_factor_entries(
+            n,
+            true,
+            self.order,
+            budget::DRIVEN_BASIS_COMPLEX,
+            FactorPrecision::Double,
+            budget::OPTIMISTIC_FILL * (n as f64).powf(4.0 / 3.0),
+        )
+    }
+    fn counted(&self, mesh: &TetMesh) -> Result<Plan> {
+        Ok(budget::plan_driven_counted(mesh, self.order, self.ports)?)
+    }
+}
+
 /// Searches the finest `per_wavelength` between the order's floor and `geom`'s current
-/// (default) size whose plan at `precision` fits `FIT_SHARE · limit` bytes; leaves that
+/// (default) size whose plan by `planner` fits `FIT_SHARE · limit` bytes; leaves that
 /// size in `geom`. When even the floor does not fit, returns the floor's mesh and plan
 /// (the caller's memory check then refuses it and says why).
 pub fn mesh_to_fit(
     geom: &mut Geometry,
-    settings: &ModeSettings,
-    materials: &[RegionMaterial],
-    precision: FactorPrecision,
+    order: NedelecOrder,
+    planner: &dyn SizePlanner,
     limit: f64,
 ) -> Result<Fitted> {
-    let order = settings.order;
     let asked = geom.mesh.per_wavelength;
     let floor = floor_per_wavelength(order).min(asked);
     let share = FIT_SHARE * limit;
-    let mut settings = settings.clone();
-    settings.precision = precision;
-    let complex = settings.is_complex(materials);
-    let basis = budget::basis_size(&settings);
 
     let mut attempts: Vec<Attempt> = Vec::new();
     // The finest size that fitted, and the latest one tried (kept when none fits).
@@ -161,22 +243,12 @@ pub fn mesh_to_fit(
     for _ in 0..MAX_TRIES {
         set_size(geom, p);
         let (mesh, mesh_s) = make_curved(geom)?;
-        let n = settings.space(&mesh.mesh).n_dofs();
-        let optimistic = budget::with_factor_entries(
-            n,
-            complex,
-            order,
-            basis,
-            precision,
-            budget::OPTIMISTIC_FILL * (n as f64).powf(4.0 / 3.0),
-        );
+        let n = planner.unknowns(&mesh.mesh);
+        let optimistic = planner.optimistic(n);
         let (plan, counted) = if optimistic.memory_bytes > share {
             (optimistic, false)
         } else {
-            (
-                budget::plan_counted(&mesh.mesh, materials, &settings)?,
-                true,
-            )
+            (planner.counted(&mesh.mesh)?, true)
         };
         attempts.push(Attempt {
             per_wavelength: p,
@@ -201,6 +273,7 @@ pub fn mesh_to_fit(
             None => (p * (share / need).cbrt()).min(0.95 * p).max(floor),
         };
     }
+    let fits = best.is_some();
     let (mesh, mesh_s, plan, used) = match (best, latest) {
         (Some(b), _) | (None, Some(b)) => b,
         (None, None) => unreachable!("every try is kept as best or latest"),
@@ -209,7 +282,7 @@ pub fn mesh_to_fit(
     // A size rejected by the optimistic plan alone gets its counted plan, for the
     // refusal's figures.
     let plan = match attempts.iter().find(|a| a.per_wavelength == used) {
-        Some(a) if !a.counted => budget::plan_counted(&mesh.mesh, materials, &settings)?,
+        Some(a) if !a.counted => planner.counted(&mesh.mesh)?,
         _ => plan,
     };
     Ok(Fitted {
@@ -220,6 +293,7 @@ pub fn mesh_to_fit(
         used,
         attempts,
         share_bytes: share,
+        fits,
     })
 }
 

@@ -193,7 +193,8 @@ pub fn run_with(
     };
     let (curved_mesh, mesh_s, fitted) = match avail {
         Some(a) if auto_size => {
-            let f = fit::mesh_to_fit(&mut geom, &settings, &mats, lowest, a.bytes)?;
+            let planner = fit::ModesPlanner::new(&settings, &mats, lowest);
+            let f = fit::mesh_to_fit(&mut geom, order, &planner, a.bytes)?;
             if args.format == Format::Table {
                 println!("{}", f.summary());
             }

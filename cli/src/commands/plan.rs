@@ -158,9 +158,9 @@ pub fn check_solve(
     }
     if plan.memory_bytes > MEMORY_SHARE * a.bytes && !allow_large {
         bail!(
-            "this solve would need an estimated {} ({} unknowns at order {}{}, ~{:.2e} factor \
-             entries by the solver's fill estimate, in {} precision{}), but only {} is \
-             available ({}); {}",
+            "this solve would need an estimated {} ({} unknowns at order {}{}, {:.3e} factor \
+             entries counted by the symbolic factorisation, in {} precision{}), but only {} \
+             is available ({}); {}",
             units::bytes(plan.memory_bytes),
             plan.n_dofs,
             order.as_int(),

@@ -8,7 +8,7 @@ use anyhow::{Context, Result};
 use serde::Serialize;
 use std::path::Path;
 
-/// Size of the solve as planned before assembly (`antinode_solver::budget::plan`).
+/// Size of the solve as planned before assembly (`antinode_solver::budget::plan_counted`).
 #[derive(Clone, Debug, Serialize)]
 pub struct PlanFigures {
     /// Free unknowns counted before assembly (before the port constraints).

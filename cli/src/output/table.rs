@@ -325,7 +325,8 @@ fn print_solve(doc: &ModesDoc) {
     let s = &doc.solve;
     println!(
         "solve: {} unknowns ({}), {} matrix non-zeros, factor {} entries (planned before \
-         assembly: {:.3e}, estimate); planned peak memory {} (estimate{}); mesh {:.2} s, \
+         assembly: {:.3e}, counted before the port constraint); planned peak memory {} \
+         (plan{}); mesh {:.2} s, \
          assembly {:.2} s, factorisation {:.2} s, eigen {:.2} s ({} solves, {} restarts); \
          spurious fields dropped: {}; factor precision {}{}",
         doc.unknowns,

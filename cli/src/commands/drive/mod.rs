@@ -15,7 +15,7 @@ use crate::output::{folder, touchstone, vtk_heating};
 use crate::progress::Spinner;
 use crate::units;
 use antinode_mesh::Geometry;
-use antinode_solver::budget::plan_driven;
+use antinode_solver::budget::{plan_driven_counted, Plan};
 use antinode_solver::driven::loads::Thermal;
 use antinode_solver::driven::sweep::SweepOptions;
 use antinode_solver::driven::{solve_driven, DriveSettings, DrivenResponse};
@@ -77,9 +77,14 @@ pub struct DriveArgs {
     /// sweep stops.
     #[arg(long, value_name = "DS", default_value_t = SweepOptions::default().tolerance)]
     pub tolerance: f64,
-    /// Solve even when the memory estimate exceeds the memory available.
+    /// Solve even when the memory estimate exceeds the memory available (and mesh at the
+    /// default size instead of relaxing it to fit).
     #[arg(long)]
     pub allow_large: bool,
+    /// Mesh at the asked or default size, never relaxing it to fit the memory (set by
+    /// `sweep`, whose variants compare at equal sizes).
+    #[arg(skip)]
+    pub fixed_size: bool,
     /// Keep every tetrahedron straight (cylinder sides as the meshed polygon) instead of
     /// curving the elements on them; for comparison.
     #[arg(long)]
@@ -117,15 +122,25 @@ fn band_frequencies(args: &DriveArgs, geom: &Geometry) -> Result<([f64; 2], Vec<
 }
 
 /// Checks the solver's plan against the memory available.
-fn check_plan(args: &DriveArgs, mesh: &antinode_mesh::TetMesh, geom: &Geometry) -> Result<()> {
+fn check_plan(
+    args: &DriveArgs,
+    mesh: &antinode_mesh::TetMesh,
+    geom: &Geometry,
+    counted: Option<Plan>,
+) -> Result<()> {
     let order = order_of(geom).map_err(|e| anyhow!("{e} (--order)"))?;
-    let plan = plan_driven(mesh, order, geom.ports.len());
+    let plan = match counted {
+        Some(p) => p,
+        None => plan_driven_counted(mesh, order, geom.ports.len())?,
+    };
     let avail = available();
     super::plan::check_solve(&plan, order, avail, None, args.allow_large)?;
     println!(
-        "plan: {} unknowns (complex){}, estimated peak memory {} (solver's estimate){}",
+        "plan: {} unknowns (complex){}, {:.3e} factor entries (counted), estimated peak \
+         memory {} (solver's plan){}",
         plan.n_dofs,
         super::plan::port_note(geom.ports.len()),
+        plan.factor_entries,
         units::bytes(plan.memory_bytes),
         avail.map_or(String::new(), |a| format!(
             ", {} available ({})",
@@ -186,18 +201,43 @@ pub fn run_with(
         None => vec![geom.solve.target],
     };
     let order = order_of(&geom).map_err(|e| anyhow!("{e} (--order)"))?;
+    // Automatic size as in `modes` (super::fit): no per_wavelength given, the built-in
+    // mesher, no request to solve as asked whatever the memory.
+    let auto_size = !geom.mesh.per_wavelength_given
+        && geom.mesh.import.is_none()
+        && !args.allow_large
+        && !args.fixed_size;
+    let mut planned = geom.clone();
+    if auto_size {
+        // Refused before meshing only when even the coarsest automatic size would not fit.
+        super::fit::set_size(&mut planned, super::fit::floor_per_wavelength(order));
+    }
     super::plan::before_meshing(
-        &geom,
+        &planned,
         order,
         true,
         antinode_solver::budget::DRIVEN_BASIS_COMPLEX,
         None,
         args.allow_large,
         antinode_solver::linalg::mixed::FactorPrecision::Double,
-        crate::budget::available(),
+        available(),
     )?;
     let out = folder::prepare(&super::output_dir(args.out.as_deref(), &args.geometry))?;
-    let (curved_mesh, mesh_s) = super::mesh::make_curved(&geom)?;
+    let (curved_mesh, mesh_s, counted) = match available() {
+        Some(a) if auto_size => {
+            let planner = super::fit::DrivePlanner {
+                order,
+                ports: geom.ports.len(),
+            };
+            let f = super::fit::mesh_to_fit(&mut geom, order, &planner, a.bytes)?;
+            println!("{}", f.summary());
+            (f.mesh, f.mesh_s, Some(f.plan))
+        }
+        _ => {
+            let (m, s) = super::mesh::make_curved(&geom)?;
+            (m, s, None)
+        }
+    };
     let curved = match args.straight {
         true => Default::default(),
         false => std::sync::Arc::new(antinode_solver::fem::curved::CurvedBoundary::from_mesh(
@@ -205,7 +245,7 @@ pub fn run_with(
         )),
     };
     let mesh = curved_mesh.mesh;
-    check_plan(args, &mesh, &geom)?;
+    check_plan(args, &mesh, &geom, counted)?;
 
     let settings = DriveSettings {
         order,

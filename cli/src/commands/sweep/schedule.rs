@@ -3,8 +3,8 @@
 //! many at once as `--jobs` and the memory allow.
 //!
 //! Concurrency: J = min(--jobs or the core count, ⌊0.9 · MemAvailable / M⌋, pending),
-//! at least 1, with M the largest peak-memory estimate of the solver's plan
-//! (`antinode_solver::budget`) over the variants to run, for the heaviest command each
+//! at least 1, with M the largest peak memory of the solver's plan with the factor's
+//! entries counted (`antinode_solver::budget::plan_counted`) over the variants to run, for the heaviest command each
 //! runs with its `[options]` (mesh options, and for `modes` also `--target`, `--band`,
 //! `--count` and `--wall-losses`). Each process gets ⌈cores / J⌉ threads (RAYON_NUM_THREADS), so the cores are
 //! shared rather than oversubscribed.
@@ -36,9 +36,9 @@ pub(super) fn plan_bytes(sweep: &SweepFile, v: &Variant) -> Result<f64> {
         let (mesh, _) = crate::commands::mesh::make(&g)?;
         let plan = match kind {
             RunKind::Modes => {
-                budget::plan(&mesh, &region_materials(&g, settings.target_hz), &settings)
+                budget::plan_counted(&mesh, &region_materials(&g, settings.target_hz), &settings)?
             }
-            RunKind::Drive => budget::plan_driven(&mesh, settings.order, g.ports.len()),
+            RunKind::Drive => budget::plan_driven_counted(&mesh, settings.order, g.ports.len())?,
         };
         worst = worst.max(plan.memory_bytes);
     }
@@ -155,8 +155,8 @@ pub fn run_all(
 mod tests {
     //! The memory plan of a variant takes the command options as the command would: a
     //! sweep whose `modes` options say `--target 3.1 --count 60` plans what a geometry
-    //! file with that target and count in `[solve]` plans (the same solver estimate,
-    //! `antinode_solver::budget::plan`, on the same mesh). Invented test geometry.
+    //! file with that target and count in `[solve]` plans (the same counted plan,
+    //! `antinode_solver::budget::plan_counted`, on the same mesh). Invented test geometry.
     use super::*;
 
     const BASE: &str = "[cavity]\nshape = \"box\"\nsize = [200.0, 150.0, 120.0]\nwalls = \"pec\"\n\
@@ -166,7 +166,9 @@ mod tests {
         let g = antinode_mesh::Geometry::from_toml_str(text, None).unwrap();
         let s = antinode_solver::problem::settings_from(&g).unwrap();
         let (mesh, _) = crate::commands::mesh::make(&g).unwrap();
-        budget::plan(&mesh, &region_materials(&g, s.target_hz), &s).memory_bytes
+        budget::plan_counted(&mesh, &region_materials(&g, s.target_hz), &s)
+            .unwrap()
+            .memory_bytes
     }
 
     fn sweep_plan(options: &str) -> f64 {

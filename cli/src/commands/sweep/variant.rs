@@ -181,7 +181,9 @@ pub fn run_one(sweep: &SweepFile, dir: &Path, v: &Variant) -> Result<()> {
                 write_json(&partial.join("probes.json"), &doc)?;
             }
             RunKind::Drive => {
-                let args = DriveLine::try_parse_from(&l)?.args;
+                let mut args = DriveLine::try_parse_from(&l)?.args;
+                // Variants compare at equal sizes: no automatic relaxation per variant.
+                args.fixed_size = true;
                 match (&v.plate, &v.geometry) {
                     (Some(plate), Ok(g)) => {
                         let names: Vec<String> = g.loads.iter().map(|l| l.name.clone()).collect();
