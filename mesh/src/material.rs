@@ -271,8 +271,9 @@ const RAW_BEEF_ROWS: [TableRow; 2] = [
 /// The built-in material list, dielectrics first, then metals.
 ///
 /// Each dielectric's `valid_at` says at which frequency and temperature its source gives
-/// it and how values at other frequencies follow: water has its model, raw beef is
-/// interpolated in its table, the others are constants (the same numbers at every
+/// it and how values at other frequencies follow: water and ice have their models, raw
+/// beef is interpolated in its table, soda lime glass follows the ITU-R P.2040 power law
+/// for glass, the others are constants (the same numbers at every
 /// frequency). `range_hz` is the frequency span the source covers. Food values vary
 /// widely with composition and temperature.
 pub fn builtin_list() -> Vec<MaterialEntry> {
@@ -510,14 +511,16 @@ pub fn builtin_list() -> Vec<MaterialEntry> {
              \"Muscovite Mica Properties\" of M. P. Mica Enterprises, \
              https://www.mpmica.net/muscovite_mica_properties.html (read 2026-12-04), \
              gives permittivity 6-7 at 15 °C and loss tangent 1-4 x 10^-4 with no \
-             frequency: eps' is the middle of that range, tan d inside it. Changed from \
+             frequency, as do the muscovite tables of tedpella.com and icrmica.com (read \
+             2026-12-04; phlogopite there: 5-6 and 0.001-0.005): eps' is the middle of \
+             that range, tan d inside it. Changed from \
              eps' 5.4 at 3 GHz (recalled as von Hippel, from memory); no table of mica at \
              microwave frequencies was found; the waveguide cover sheet of ovens is often \
              a mica composite with a binder, which is lossier",
             "frequency not stated by the source (stored at 2.45 GHz), 15 °C; no \
              frequency or temperature dependence modelled: the same values at every \
              frequency and temperature",
-            (2820.0, 880.0, "ρ 2820 kg/m³: specific gravity 2.82 of muscovite on the manufacturer's page https://www.mpmica.net/muscovite_mica_properties.html (read 2026-12-04), changed from 2800 (from memory); c_p 880 J/(kg K) (muscovite): from memory, not verified against a table"),
+            (2820.0, 880.0, "ρ 2820 kg/m³: specific gravity 2.82 of muscovite on the manufacturer's page https://www.mpmica.net/muscovite_mica_properties.html (read 2026-12-04), changed from 2800 (from memory); c_p 880 J/(kg K): \"Specific Heat 0.21\" (no unit printed; read as cal/(g K) = 879 J/(kg K)) for muscovite in the tables \"Physical properties of mica grade V1\", http://www.tedpella.com/vacuum_html/MicaGradeV1properties.htm, and http://icrmica.com/icrmica_physical_properties.html (both read 2026-12-04; they also give permittivity 6-7 and loss tangent 0.0001-0.0004 at 15 °C), unchanged (it was 880 from memory)"),
         ),
         diel(
             "alumina",
