@@ -183,7 +183,7 @@ impl Material {
             permeability: 1.0,
             thermal: None,
         }
-        .with_thermal(917.0, 2050.0, ICE_THERMAL_SOURCE)
+        .with_thermal(917.0, 2101.0, ICE_THERMAL_SOURCE)
     }
 }
 
@@ -242,10 +242,14 @@ impl MaterialEntry {
 
 /// Where the ice entry's density and specific heat come from.
 const ICE_THERMAL_SOURCE: &str = "ρ 917 kg/m³ (ice at 0 °C), as read 2026-12-04 on the data \
-    page https://wfrjr.com/data/formula/data/water.html; c_p 2050 J/(kg K): from memory, \
-    not verified against a table (the pages read give 2.06 kJ/(kg K) there and 2.108 on the \
-    Engineering ToolBox page \"Water - Thermophysical Properties\", neither with a \
-    temperature)";
+    page https://wfrjr.com/data/formula/data/water.html; c_p 2101 J/(kg K) (ice at \
+    273.15 K, 100 kPa): Appendix I \"Thermodynamic and physical properties of water and \
+    ice\" of a book copied on https://issuhub.com/view/index/4732?pageIndex=805 (read \
+    2026-12-04; the book's title is not on the page read). Changed from 2050 (from \
+    memory). Taken constant over the ice model's -60-0 °C: colder ice has a lower c_p, by \
+    an amount not read in a table (pages read earlier give 2.06 kJ/(kg K) on the data page \
+    above and 2.108 on the Engineering ToolBox page \"Water - Thermophysical \
+    Properties\", neither with a temperature)";
 
 /// Coefficients a, b, c, d of the "glass" row of Recommendation ITU-R P.2040-3, Table 3
 /// (ε′ = a·f^b, σ = c·f^d S/m, f in GHz), from memory and checked against the row's
@@ -793,7 +797,8 @@ mod tests {
     /// changed value must change its source string): beef 3430 and potato 3520 J/(kg K)
     /// (Geankoplis, 4th ed., Table A.4-1), polypropylene 1680 (Springer Handbook of
     /// Condensed Matter and Materials Data, Table 3.3-6), air 1.2041 kg/m³ and 1005
-    /// J/(kg K), borosilicate 3.3 2230 kg/m³, muscovite 2820 kg/m³. Soda-lime window
+    /// J/(kg K), ice 917 kg/m³ and 2101 J/(kg K) (0 °C), borosilicate 3.3 2230 kg/m³,
+    /// muscovite 2820 kg/m³. Soda-lime window
     /// glass: 48 J/(mol K) over the mean molar mass of the listed composition (73 SiO2,
     /// 14 Na2O, 9 CaO, 4 MgO, 0.15 Al2O3, 0.03 K2O, 0.02 TiO2, 0.1 Fe2O3 wt%; molar masses
     /// of the oxides from the standard atomic weights, to 0.01 g/mol), worked here:
@@ -811,6 +816,7 @@ mod tests {
         assert_eq!(th("potato").1, 3520.0);
         assert_eq!(th("polypropylene").1, 1680.0);
         assert_eq!(th("air"), (1.2041, 1005.0));
+        assert_eq!(th("ice"), (917.0, 2101.0));
         assert_eq!(th("borosilicate glass").0, 2230.0);
         assert_eq!(th("mica").0, 2820.0);
         let window = [

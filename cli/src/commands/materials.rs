@@ -94,9 +94,15 @@ pub fn run(args: &MaterialsArgs) -> Result<()> {
     for e in &list {
         if let MaterialValues::Dielectric(m) = &e.values {
             if let Some(th) = &m.thermal {
+                // Air's 1.2041 kg/m³ keeps its digits (one decimal would print 1.2).
+                let rho = if th.density < 10.0 {
+                    format!("{:.4}", th.density)
+                } else {
+                    format!("{:.1}", th.density)
+                };
                 println!(
-                    "{:<22} {:>12.1} {:>14.0}   {}",
-                    e.name, th.density, th.specific_heat, th.source
+                    "{:<22} {:>12} {:>14.0}   {}",
+                    e.name, rho, th.specific_heat, th.source
                 );
             }
         }
