@@ -323,6 +323,25 @@ fn materials_at_915_mhz_say_where_each_value_comes_from() {
     let potato = block("potato");
     assert!(potato.contains("57.000"), "{potato}");
     assert!(potato.contains("outside the source's range"), "{potato}");
+    // Soda-lime glass follows the ITU-R P.2040-3 glass power law inside its 0.1-100 GHz:
+    // at 0.915 GHz ε′ 6.31 and ε″ = 0.0036 · 0.915^1.3394 / (2π · 0.915e9 · ε0) =
+    // 0.06279, printed 0.0628 (worked by hand), not flagged.
+    let glass = block("soda lime glass");
+    assert!(
+        glass.contains("6.310") && glass.contains("0.0628"),
+        "{glass}"
+    );
+    assert!(!glass.contains("outside the source's range"), "{glass}");
+    // Borosilicate glass is a 1 MHz constant: flagged at 0.915 GHz.
+    let boro = block("borosilicate glass");
+    assert!(boro.contains("outside the source's range"), "{boro}");
+    // Air's density keeps its four decimals (dry air at 20 °C, 1.2041 kg/m³).
+    let air = s
+        .lines()
+        .filter(|l| l.starts_with("air "))
+        .nth(1)
+        .unwrap_or_else(|| panic!("{s}"));
+    assert!(air.contains("1.2041"), "{air}");
 }
 
 /// A box with no `[mesh]` sizes: the automatic size keeps the order's default when the

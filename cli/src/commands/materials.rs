@@ -36,7 +36,8 @@ pub fn run(args: &MaterialsArgs) -> Result<()> {
         "Built-in materials at {} GHz (water at {} °C, ice at its default {} °C). Each \
          dielectric's \"how\" line says how its value at this frequency follows from its \
          source: water from its Debye model, ice from its model, raw beef by linear \
-         interpolation in its table, the others are constants \
+         interpolation in its table, soda lime glass from its power law in frequency \
+         (ITU-R P.2040), the others are constants \
          printed as their source gives them at the frequency it names, whatever \
          --frequency says; \"outside the source's range\" marks a value the source does \
          not give at this frequency. Load materials use ε′, ε″ (εr = ε′ − jε″); wall \
@@ -93,9 +94,15 @@ pub fn run(args: &MaterialsArgs) -> Result<()> {
     for e in &list {
         if let MaterialValues::Dielectric(m) = &e.values {
             if let Some(th) = &m.thermal {
+                // Air's 1.2041 kg/m³ keeps its digits (one decimal would print 1.2).
+                let rho = if th.density < 10.0 {
+                    format!("{:.4}", th.density)
+                } else {
+                    format!("{:.1}", th.density)
+                };
                 println!(
-                    "{:<22} {:>12.1} {:>14.0}   {}",
-                    e.name, th.density, th.specific_heat, th.source
+                    "{:<22} {:>12} {:>14.0}   {}",
+                    e.name, rho, th.specific_heat, th.source
                 );
             }
         }
