@@ -12,6 +12,11 @@
 //! two mesh sizes and fails if the estimate drops below the measurement. The complex path
 //! factorises the n × n complex symmetric matrix natively (same structure as the real
 //! factor, 16 bytes per entry instead of 8).
+//!
+//! Once a mesh exists, [`plan_counted`] replaces the estimate by the count itself: the
+//! solve's ordering and supernodal symbolic factorisation on the coupling pattern, no
+//! numeric work (4.7 s for 0.8M order-3 unknowns); the estimate remains for the check
+//! before meshing.
 
 use crate::fem::assembly::RegionMaterial;
 use crate::fem::{NedelecOrder, Space};
