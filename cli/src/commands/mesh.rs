@@ -195,6 +195,14 @@ pub fn run(args: &MeshArgs) -> Result<()> {
     );
     println!("wrote {}/mesh.vtu and boundary.vtu", out_target.display());
     crate::output::review::print_warnings(&mesh_warning_docs(&geom, &mesh));
+    if !geom.mesh.per_wavelength_given && geom.mesh.import.is_none() {
+        println!(
+            "note: no per_wavelength given: meshed at the order's default {}; `modes` and \
+             `drive` relax it when their solve would not fit the memory (`modes --plan` \
+             shows the size they will use)",
+            geom.mesh.per_wavelength
+        );
+    }
     println!(
         "time: meshing {:.2} s, total {:.2} s",
         mesh_s,
