@@ -18,8 +18,8 @@
 //! * Lossless cavity without ports: K x = λ M′ x is real symmetric; the M-symmetric
 //!   iteration runs on (K − σM′)⁻¹M′.
 //! * Lossy loads (ε″ > 0) or ports: (K + jβP) x = λ (M′ − jM″) x is complex symmetric;
-//!   the iteration runs on A⁻¹M with A = K + jβP − σ(M′ − jM″) factorised through its
-//!   real 2n form, in complex arithmetic with the Euclidean inner product. β is taken at
+//!   the iteration runs on A⁻¹M with A = K + jβP − σ(M′ − jM″) factorised natively
+//!   (complex symmetric LDLᵀ), in complex arithmetic with the Euclidean inner product. β is taken at
 //!   the target and refined per mode ([`checks`]).
 //! * Walls of finite conductivity as a surface impedance
 //!   ([`crate::fem::impedance`], [`ModeSettings::wall_losses`]): the term c(ω) W_E joins
