@@ -171,6 +171,11 @@ pub fn with_factor_entries(
     let row = row_entries(order);
     let matrices = nf * row * 12.0 * if complex { 5.0 } else { 3.0 };
     let scalar = if complex { 16.0 } else { 8.0 };
+    // The complex iteration restarts with a larger basis (`KrylovScalar::basis_before_restart`).
+    let basis = match complex {
+        true => <faer::c64 as crate::linalg::eigen::KrylovScalar>::basis_before_restart(basis),
+        false => basis,
+    };
     let vectors = nf * basis as f64 * scalar * if complex { 3.0 } else { 4.0 };
     let (factor_scalar, work) = match precision {
         FactorPrecision::Double => (scalar, 0.0),
